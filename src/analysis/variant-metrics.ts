@@ -1,0 +1,114 @@
+// What an engineer designs against, from the recorded settled cycles of one variant.
+// All values in SI units.
+
+import { POWER_TERMS, type PowerTerm } from '../model/power.js';
+import type { OrbitKind } from '../simulation/orbit.js';
+import type { CycleRecord } from '../simulation/recorder.js';
+import type { VariantRun } from '../simulation/run-variant.js';
+
+export interface EnergyBalance {
+  /** Per-period energies, J. */
+  supply: number;
+  delivered: number;
+  dissipated: Record<PowerTerm | 'switchTurnOn', number>;
+  storedChange: number;
+  /** (supply − delivered − dissipated − storedChange) / supply. */
+  relativeMismatch: number;
+}
+
+export interface VariantMetrics {
+  peakDrainVoltage: number;
+  /** Transistor rating minus the peak, V (negative: over the rating). */
+  marginToRating: number;
+  ringFrequency: number | null;
+  settled: boolean;
+  orbit: OrbitKind;
+  cycles: number;
+  conduction: 'DCM' | 'CCM';
+  turnOff: CycleRecord['turnOffCause'];
+  dutyCycle: number;
+  peakPrimaryCurrent: number;
+  clampVoltageMean?: number;
+  clampVoltageRipple?: number;
+  clampResistorPower?: number;
+  clampDiodePeakCurrent?: number;
+  damperResistorPower?: number;
+  switchTurnOnLossPower: number;
+  inputPower: number;
+  outputPower: number;
+  energyBalance: EnergyBalance;
+  stats: {
+    derivativeEvaluations: number;
+    evaluationsPerPeriod: number;
+    steps: number;
+    events: number;
+    wallTimeMs: number;
+    finalCycleChange: number;
+  };
+}
+
+/**
+ * Ring frequency right after turn-off: spacing of successive drain maxima while the drain node
+ * is free and the output diode conducts (the leakage inductance against the drain capacitance).
+ */
+export function ringFrequencyAfterTurnOff(cycle: CycleRecord): number | null {
+  const maxima = cycle.drainMaxima
+    .filter((m) => m.mode === 'free+out' && m.timeSeconds > cycle.turnOffSeconds)
+    .sort((a, b) => a.timeSeconds - b.timeSeconds)
+    .slice(0, 6);
+  if (maxima.length < 2) return null;
+  return (maxima.length - 1) / (maxima[maxima.length - 1]!.timeSeconds - maxima[0]!.timeSeconds);
+}
+
+export function variantMetrics(run: VariantRun, voltageRating: number): VariantMetrics {
+  const cycles = run.recorder.cycles;
+  const last = cycles[cycles.length - 1]!;
+  const p = run.params;
+  const period = p.periodSeconds;
+  const peakDrainVoltage = Math.max(...cycles.map((c) => c.drainVoltage.max));
+  const energy = (term: PowerTerm): number => last.energy[POWER_TERMS.indexOf(term)]!;
+
+  const dissipated = {} as Record<PowerTerm | 'switchTurnOn', number>;
+  for (const term of POWER_TERMS) if (term !== 'supply' && term !== 'load') dissipated[term] = energy(term);
+  dissipated.switchTurnOn = last.turnOnLoss;
+  const delivered = energy('load');
+  const storedChange = last.storedEnergyEnd - last.storedEnergyStart;
+  const lost = Object.values(dissipated).reduce((a, b) => a + b, 0);
+  const supply = energy('supply');
+
+  const metrics: VariantMetrics = {
+    peakDrainVoltage,
+    marginToRating: voltageRating - peakDrainVoltage,
+    ringFrequency: ringFrequencyAfterTurnOff(last),
+    settled: run.orbit === 'settled',
+    orbit: run.orbit,
+    cycles: run.cycles,
+    conduction: last.outputDiodeOnAtEnd ? 'CCM' : 'DCM',
+    turnOff: last.turnOffCause,
+    dutyCycle: last.turnOffSeconds / period,
+    peakPrimaryCurrent: Math.max(...cycles.map((c) => c.primaryPeakCurrent)),
+    switchTurnOnLossPower: last.turnOnLoss / period,
+    inputPower: supply / period,
+    outputPower: delivered / period,
+    energyBalance: {
+      supply, delivered, dissipated, storedChange,
+      relativeMismatch: (supply - delivered - lost - storedChange) / supply,
+    },
+    stats: {
+      derivativeEvaluations: run.stats.derivativeEvaluations,
+      evaluationsPerPeriod: run.stats.derivativeEvaluations / run.cycles,
+      steps: run.stats.steps,
+      events: run.stats.events,
+      wallTimeMs: run.stats.wallTimeMs,
+      finalCycleChange: run.finalChange,
+    },
+  };
+  if (p.clamp) {
+    metrics.clampVoltageMean = last.clampVoltageIntegral / period;
+    metrics.clampVoltageRipple = last.clampVoltage.max - last.clampVoltage.min;
+    metrics.clampResistorPower = energy('clampResistor') / period;
+    metrics.clampDiodePeakCurrent = Math.max(...cycles.map((c) => c.clampDiodePeakCurrent));
+  }
+  if (p.damper) metrics.damperResistorPower = energy('damperResistor') / period;
+  return metrics;
+}

@@ -1,0 +1,67 @@
+// The circuit description as the rest of the program sees it: plain SI numbers, validated.
+
+export interface Scenario {
+  name: string;
+  supply: { voltage: number };
+  transformer: {
+    magnetizingInductance: number;
+    leakageInductance: number;
+    turnsRatio: number;
+    primaryResistance: number;
+  };
+  output: { voltage: number; diodeDrop: number };
+  switch: {
+    frequency: number;
+    control: SwitchControl;
+    drainCapacitance: number;
+    onResistance: number;
+    bodyDiodeDrop: number;
+    voltageRating: number;
+  };
+  clamp?: ClampParts;
+  damper?: DamperParts;
+  simulation: SimulationSettings;
+}
+
+export type SwitchControl =
+  | { kind: 'peak-current'; peakCurrent: number; maxDutyCycle: number }
+  | { kind: 'fixed-duty'; dutyCycle: number };
+
+export interface ClampParts { resistance: number; capacitance: number; diodeDrop: number }
+export interface DamperParts { resistance: number; capacitance: number }
+
+export interface SimulationSettings {
+  /** odex relative tolerance; absolute tolerances are this times each state's scale. */
+  relativeTolerance: number;
+  /** Settled when the period-start state changes by less than this, relative to its scale. */
+  settleTolerance: number;
+  maxCycles: number;
+  /** Settled cycles kept at full resolution for the waveform and the metrics. */
+  recordedCycles: number;
+  /** Waveform samples per switching period (raised automatically to resolve the ring). */
+  samplesPerCycle: number;
+}
+
+export const DEFAULT_SIMULATION: SimulationSettings = {
+  relativeTolerance: 1e-7,
+  settleTolerance: 1e-5,
+  maxCycles: 2000,
+  recordedCycles: 3,
+  samplesPerCycle: 2000,
+};
+
+export type VariantName = 'bare' | 'clamp' | 'damped';
+export const VARIANT_NAMES: readonly VariantName[] = ['bare', 'clamp', 'damped'];
+
+/** Variants a scenario supports: `bare` always; `clamp` with a clamp block; `damped` with a damper block. */
+export function availableVariants(scenario: Scenario): VariantName[] {
+  const names: VariantName[] = ['bare'];
+  if (scenario.clamp) names.push('clamp');
+  if (scenario.damper) names.push('damped');
+  return names;
+}
+
+/** Reflected output voltage VR = n·(Vo + Vf), in volts. */
+export function reflectedVoltage(scenario: Scenario): number {
+  return scenario.transformer.turnsRatio * (scenario.output.voltage + scenario.output.diodeDrop);
+}

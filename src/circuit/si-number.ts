@@ -1,0 +1,61 @@
+// Values in scenario files, flags and form fields: a plain number in SI units, or a string with
+// an SI prefix and optionally the field's unit ("2.2u", "2.2uH", "150k", "100kHz").
+
+const PREFIX_MULTIPLIER: Readonly<Record<string, number>> = {
+  f: 1e-15, p: 1e-12, n: 1e-9, u: 1e-6, 'µ': 1e-6, 'μ': 1e-6, m: 1e-3,
+  k: 1e3, M: 1e6, G: 1e9,
+};
+
+/** Spellings accepted for each unit symbol (the first is the canonical one). */
+const UNIT_SPELLINGS: Readonly<Record<string, readonly string[]>> = {
+  V: ['V'], A: ['A'], H: ['H'], F: ['F'], Hz: ['Hz'], s: ['s'], W: ['W'],
+  'Ω': ['Ω', 'ohm', 'Ohm', 'R'],
+};
+
+const NUMBER_PART = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$/;
+
+export type ParsedNumber = { ok: true; value: number } | { ok: false; expected: string };
+
+/**
+ * Parses a number or prefixed string. `unit` is the field's unit symbol ('' for a ratio): a trailing
+ * unit must be that one, so "2.2uF" given for an inductance is an error rather than 2.2 µH.
+ */
+export function parseSiNumber(input: unknown, unit: string): ParsedNumber {
+  const expected = unit === ''
+    ? 'a number'
+    : `a number in ${unit} or a string with an SI prefix such as "4.7m" or "4.7m${unit}"`;
+  if (typeof input === 'number') {
+    return Number.isFinite(input) ? { ok: true, value: input } : { ok: false, expected };
+  }
+  if (typeof input !== 'string') return { ok: false, expected };
+  const match = NUMBER_PART.exec(input);
+  if (!match) return { ok: false, expected };
+  const mantissa = Number(match[1]);
+  const suffix = match[2] ?? '';
+  const multiplier = suffixMultiplier(suffix, unit);
+  if (multiplier === undefined || !Number.isFinite(mantissa)) return { ok: false, expected };
+  return { ok: true, value: mantissa * multiplier };
+}
+
+function suffixMultiplier(suffix: string, unit: string): number | undefined {
+  const spellings = UNIT_SPELLINGS[unit] ?? [];
+  const isUnit = (s: string): boolean => s === '' || spellings.includes(s);
+  if (isUnit(suffix)) return 1;
+  for (const [prefix, multiplier] of Object.entries(PREFIX_MULTIPLIER)) {
+    if (suffix.startsWith(prefix) && isUnit(suffix.slice(prefix.length))) return multiplier;
+  }
+  return undefined;
+}
+
+/** Formats a value with an SI prefix and unit for people, e.g. 2.2e-6, 'H' → "2.2 µH". */
+export function formatSi(value: number, unit: string, significantDigits = 4): string {
+  if (!Number.isFinite(value)) return `${value} ${unit}`.trim();
+  if (value === 0) return `0 ${unit}`.trim();
+  const prefixes: Array<[number, string]> = [
+    [1e9, 'G'], [1e6, 'M'], [1e3, 'k'], [1, ''], [1e-3, 'm'], [1e-6, 'µ'], [1e-9, 'n'], [1e-12, 'p'], [1e-15, 'f'],
+  ];
+  const magnitude = Math.abs(value);
+  const [scale, prefix] = prefixes.find(([s]) => magnitude >= s * 0.9995) ?? [1e-15, 'f'];
+  const scaled = Number((value / scale).toPrecision(significantDigits));
+  return `${scaled} ${prefix}${unit}`.trim();
+}

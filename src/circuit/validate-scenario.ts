@@ -1,0 +1,236 @@
+// Validation at the edge: a scenario object (parsed JSON, an HTTP body) becomes a Scenario or a
+// list of issues, each naming its field path, what was expected and what was found.
+
+import { parseSiNumber } from './si-number.js';
+import { DEFAULT_SIMULATION, reflectedVoltage, type Scenario, type SimulationSettings } from './scenario.js';
+
+export interface ValidationIssue { path: string; message: string }
+
+export type ValidationResult =
+  | { ok: true; scenario: Scenario; warnings: ValidationIssue[] }
+  | { ok: false; issues: ValidationIssue[] };
+
+type Range = 'positive' | 'non-negative' | 'fraction' | 'whole';
+
+interface NumberField { kind: 'number'; unit: string; range: Range; optional?: number | 'absent' }
+interface TextField { kind: 'text' }
+interface BlockSpec { kind: 'block'; optional: boolean; fields: Record<string, FieldSpec> }
+type FieldSpec = NumberField | TextField | BlockSpec;
+
+const num = (unit: string, range: Range, optional?: number | 'absent'): NumberField =>
+  optional === undefined ? { kind: 'number', unit, range } : { kind: 'number', unit, range, optional };
+const block = (fields: Record<string, FieldSpec>, optional = false): BlockSpec => ({ kind: 'block', optional, fields });
+
+const SCENARIO_SPEC: BlockSpec = block({
+  name: { kind: 'text' },
+  supply: block({ voltage: num('V', 'positive') }),
+  transformer: block({
+    magnetizingInductance: num('H', 'positive'),
+    leakageInductance: num('H', 'positive'),
+    turnsRatio: num('', 'positive'),
+    primaryResistance: num('Ω', 'non-negative', 0),
+  }),
+  output: block({ voltage: num('V', 'positive'), diodeDrop: num('V', 'non-negative', 0) }),
+  switch: block({
+    frequency: num('Hz', 'positive'),
+    peakCurrent: num('A', 'positive', 'absent'),
+    dutyCycle: num('', 'fraction', 'absent'),
+    maxDutyCycle: num('', 'fraction', 0.9),
+    drainCapacitance: num('F', 'positive'),
+    onResistance: num('Ω', 'non-negative'),
+    bodyDiodeDrop: num('V', 'non-negative', 0.7),
+    voltageRating: num('V', 'positive'),
+  }),
+  clamp: block({
+    resistance: num('Ω', 'positive'),
+    capacitance: num('F', 'positive'),
+    diodeDrop: num('V', 'non-negative', 1.0),
+  }, true),
+  damper: block({ resistance: num('Ω', 'positive'), capacitance: num('F', 'positive') }, true),
+  simulation: block({
+    relativeTolerance: num('', 'positive', DEFAULT_SIMULATION.relativeTolerance),
+    settleTolerance: num('', 'positive', DEFAULT_SIMULATION.settleTolerance),
+    maxCycles: num('', 'whole', DEFAULT_SIMULATION.maxCycles),
+    recordedCycles: num('', 'whole', DEFAULT_SIMULATION.recordedCycles),
+    samplesPerCycle: num('', 'whole', DEFAULT_SIMULATION.samplesPerCycle),
+  }, true),
+});
+
+const RANGE_TEXT: Record<Range, string> = {
+  positive: 'greater than 0',
+  'non-negative': '0 or more',
+  fraction: 'between 0 and 1 (exclusive)',
+  whole: 'a whole number of 1 or more',
+};
+
+function describe(found: unknown): string {
+  if (found === undefined) return 'nothing';
+  if (found === null) return 'null';
+  if (Array.isArray(found)) return 'a list';
+  if (typeof found === 'object') return 'an object';
+  const text = JSON.stringify(found);
+  return text.length > 40 ? `${text.slice(0, 37)}...` : text;
+}
+
+function inRange(value: number, range: Range): boolean {
+  switch (range) {
+    case 'positive': return value > 0;
+    case 'non-negative': return value >= 0;
+    case 'fraction': return value > 0 && value < 1;
+    case 'whole': return Number.isInteger(value) && value >= 1;
+  }
+}
+
+type Plain = { [key: string]: unknown };
+
+function readBlock(spec: BlockSpec, input: unknown, path: string, issues: ValidationIssue[]): Plain | undefined {
+  if (typeof input !== 'object' || input === null || Array.isArray(input)) {
+    issues.push({ path: path || '(scenario)', message: `expected an object, found ${describe(input)}` });
+    return undefined;
+  }
+  const source = input as Plain;
+  const out: Plain = {};
+  for (const key of Object.keys(source)) {
+    if (!(key in spec.fields)) {
+      const known = Object.keys(spec.fields).join(', ');
+      issues.push({ path: join(path, key), message: `unknown field (expected one of: ${known}), found ${describe(source[key])}` });
+    }
+  }
+  for (const [key, field] of Object.entries(spec.fields)) {
+    const fieldPath = join(path, key);
+    const value = source[key];
+    if (field.kind === 'block') {
+      if (value === undefined && field.optional) continue;
+      const inner = readBlock(field, value === undefined ? undefined : value, fieldPath, issues);
+      if (inner) out[key] = inner;
+      continue;
+    }
+    if (field.kind === 'text') {
+      if (typeof value === 'string' && value.trim() !== '') out[key] = value;
+      else issues.push({ path: fieldPath, message: `expected a non-empty text, found ${describe(value)}` });
+      continue;
+    }
+    if (value === undefined) {
+      if (field.optional === 'absent') continue;
+      if (field.optional !== undefined) { out[key] = field.optional; continue; }
+      issues.push({ path: fieldPath, message: `expected ${numberExpectation(field)}, found nothing (the field is required)` });
+      continue;
+    }
+    const parsed = parseSiNumber(value, field.unit);
+    if (!parsed.ok) {
+      issues.push({ path: fieldPath, message: `expected ${parsed.expected}, found ${describe(value)}` });
+    } else if (!inRange(parsed.value, field.range)) {
+      issues.push({ path: fieldPath, message: `expected a value ${RANGE_TEXT[field.range]}, found ${describe(value)}` });
+    } else {
+      out[key] = parsed.value;
+    }
+  }
+  return out;
+}
+
+function numberExpectation(field: NumberField): string {
+  const unit = field.unit === '' ? '' : ` in ${field.unit}`;
+  return `a number${unit} ${RANGE_TEXT[field.range]}`;
+}
+
+const join = (path: string, key: string): string => (path ? `${path}.${key}` : key);
+
+/** Validates a scenario object; all issues are reported at once. */
+export function validateScenario(input: unknown): ValidationResult {
+  const issues: ValidationIssue[] = [];
+  const raw = readBlock(SCENARIO_SPEC, input, '', issues) as Record<string, Plain> | undefined;
+  if (!raw || issues.length > 0) return { ok: false, issues };
+
+  const sw = raw.switch as Plain;
+  const peakCurrent = sw.peakCurrent as number | undefined;
+  const dutyCycle = sw.dutyCycle as number | undefined;
+  if ((peakCurrent === undefined) === (dutyCycle === undefined)) {
+    issues.push({
+      path: 'switch.peakCurrent',
+      message: `expected exactly one of switch.peakCurrent (peak-current control) and switch.dutyCycle (fixed duty), found ${peakCurrent === undefined ? 'neither' : 'both'}`,
+    });
+    return { ok: false, issues };
+  }
+  const n = raw.transformer as Record<string, number>;
+  const clamp = raw.clamp as Record<string, number> | undefined;
+  const damper = raw.damper as Record<string, number> | undefined;
+  const scenario: Scenario = {
+    name: raw.name as unknown as string,
+    supply: { voltage: (raw.supply as Record<string, number>).voltage! },
+    transformer: {
+      magnetizingInductance: n.magnetizingInductance!,
+      leakageInductance: n.leakageInductance!,
+      turnsRatio: n.turnsRatio!,
+      primaryResistance: n.primaryResistance!,
+    },
+    output: { voltage: (raw.output as Record<string, number>).voltage!, diodeDrop: (raw.output as Record<string, number>).diodeDrop! },
+    switch: {
+      frequency: sw.frequency as number,
+      control: peakCurrent !== undefined
+        ? { kind: 'peak-current', peakCurrent, maxDutyCycle: sw.maxDutyCycle as number }
+        : { kind: 'fixed-duty', dutyCycle: dutyCycle! },
+      drainCapacitance: sw.drainCapacitance as number,
+      onResistance: sw.onResistance as number,
+      bodyDiodeDrop: sw.bodyDiodeDrop as number,
+      voltageRating: sw.voltageRating as number,
+    },
+    simulation: (raw.simulation as unknown as SimulationSettings | undefined) ?? { ...DEFAULT_SIMULATION },
+  };
+  if (clamp) scenario.clamp = { resistance: clamp.resistance!, capacitance: clamp.capacitance!, diodeDrop: clamp.diodeDrop! };
+  if (damper) scenario.damper = { resistance: damper.resistance!, capacitance: damper.capacitance! };
+
+  const warnings: ValidationIssue[] = [];
+  checkPhysics(scenario, issues, warnings);
+  return issues.length > 0 ? { ok: false, issues } : { ok: true, scenario, warnings };
+}
+
+const fmt = (x: number): string => Number(x.toPrecision(4)).toString();
+
+/** Inputs that parse but describe no circuit with a steady state. */
+function checkPhysics(s: Scenario, issues: ValidationIssue[], warnings: ValidationIssue[]): void {
+  const vin = s.supply.voltage;
+  const vr = reflectedVoltage(s);
+  const { magnetizingInductance: lm, leakageInductance: llk, primaryResistance: rp } = s.transformer;
+  const period = 1 / s.switch.frequency;
+  if (llk >= lm) {
+    issues.push({
+      path: 'transformer.leakageInductance',
+      message: `expected a leakage inductance well below the magnetizing inductance (${fmt(lm)} H), found ${fmt(llk)} H`,
+    });
+  }
+  const control = s.switch.control;
+  if (control.kind === 'fixed-duty') {
+    const d = control.dutyCycle;
+    // Volt-second balance: with the output held, the core resets within the off time only if
+    // D·Vin < (1 − D)·VR; otherwise (continuous conduction) the magnetizing current walks away.
+    if (d * vin >= (1 - d) * vr) {
+      issues.push({
+        path: 'switch.dutyCycle',
+        message: `expected a duty cycle below ${fmt(vr / (vin + vr))} so that the core resets each period (discontinuous conduction); found ${fmt(d)}, which is continuous conduction, where fixed duty with a fixed output has no steady state: lower the duty or use switch.peakCurrent`,
+      });
+    }
+  } else {
+    const ipk = control.peakCurrent;
+    const dmax = control.maxDutyCycle;
+    const finalCurrent = vin / (rp + s.switch.onResistance);
+    const reachableFromZero = (vin * dmax * period) / (lm + llk);
+    const resetsAtMaxDuty = dmax * vin < (1 - dmax) * vr;
+    if (ipk >= finalCurrent || (resetsAtMaxDuty && ipk > reachableFromZero)) {
+      const limit = ipk >= finalCurrent ? finalCurrent : reachableFromZero;
+      issues.push({
+        path: 'switch.peakCurrent',
+        message: `expected a peak current the primary can reach within switch.maxDutyCycle of the period (at most about ${fmt(limit)} A here), found ${fmt(ipk)} A`,
+      });
+    }
+  }
+  if (s.switch.voltageRating <= vin + vr) {
+    warnings.push({
+      path: 'switch.voltageRating',
+      message: `the rating ${fmt(s.switch.voltageRating)} V is not above Vin + VR = ${fmt(vin + vr)} V: no clamp can keep the drain under it`,
+    });
+  }
+}
+
+export function formatIssues(issues: readonly ValidationIssue[]): string {
+  return issues.map((i) => `${i.path}: ${i.message}`).join('\n');
+}
