@@ -1,0 +1,36 @@
+// The JSON shape of a simulation (what `simulate --json` prints and the HTTP API returns).
+
+import type { Scenario, VariantName } from '../circuit/scenario.js';
+import { reflectedVoltage } from '../circuit/scenario.js';
+import type { VariantRun } from '../simulation/run-variant.js';
+import { variantMetrics, type VariantMetrics } from './variant-metrics.js';
+
+/** Drain-voltage derating: keep the peak at or below 80 % of the rating (common practice). */
+export const DEFAULT_DRAIN_DERATING = 0.8;
+
+export interface SimulationReport {
+  scenario: string;
+  voltageRating: number;
+  deratedLimit: number;
+  supplyVoltage: number;
+  reflectedVoltage: number;
+  variants: Partial<Record<VariantName, VariantMetrics & { marginToDeratedLimit: number }>>;
+}
+
+export function simulationReport(scenario: Scenario, runs: readonly VariantRun[], derating = DEFAULT_DRAIN_DERATING): SimulationReport {
+  const rating = scenario.switch.voltageRating;
+  const deratedLimit = rating * derating;
+  const variants: SimulationReport['variants'] = {};
+  for (const run of runs) {
+    const m = variantMetrics(run, rating);
+    variants[run.variant] = { ...m, marginToDeratedLimit: deratedLimit - m.peakDrainVoltage };
+  }
+  return {
+    scenario: scenario.name,
+    voltageRating: rating,
+    deratedLimit,
+    supplyVoltage: scenario.supply.voltage,
+    reflectedVoltage: reflectedVoltage(scenario),
+    variants,
+  };
+}
