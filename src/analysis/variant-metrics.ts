@@ -50,14 +50,20 @@ export interface VariantMetrics {
 /**
  * Ring frequency right after turn-off: spacing of successive drain maxima while the drain node
  * is free and the output diode conducts (the leakage inductance against the drain capacitance).
+ * The median spacing of the first few is used, so that one crest bent by a body-diode or
+ * output-diode interval does not move the result.
  */
 export function ringFrequencyAfterTurnOff(cycle: CycleRecord): number | null {
-  const maxima = cycle.drainMaxima
+  const times = cycle.drainMaxima
     .filter((m) => m.mode === 'free+out' && m.timeSeconds > cycle.turnOffSeconds)
-    .sort((a, b) => a.timeSeconds - b.timeSeconds)
-    .slice(0, 6);
-  if (maxima.length < 2) return null;
-  return (maxima.length - 1) / (maxima[maxima.length - 1]!.timeSeconds - maxima[0]!.timeSeconds);
+    .map((m) => m.timeSeconds)
+    .sort((a, b) => a - b)
+    .slice(0, 7);
+  if (times.length < 2) return null;
+  const spacings = times.slice(1).map((t, i) => t - times[i]!).sort((a, b) => a - b);
+  const mid = spacings.length >> 1;
+  const median = spacings.length % 2 === 1 ? spacings[mid]! : (spacings[mid - 1]! + spacings[mid]!) / 2;
+  return 1 / median;
 }
 
 export function variantMetrics(run: VariantRun, voltageRating: number): VariantMetrics {

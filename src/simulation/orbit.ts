@@ -38,7 +38,11 @@ export class OrbitTracker {
         if (k < p) continue;
         const recurs = this.distance(h[k]!, h[k - p]!) < this.tolerance;
         this.periodicHits[p] = recurs ? this.periodicHits[p]! + 1 : 0;
-        if (this.periodicHits[p]! >= p + 1) return `period-${p}` as OrbitKind;
+        // A slowly converging alternating sequence also recurs every two cycles: only a one-step
+        // change that has stopped shrinking makes it an orbit of its own.
+        const earlier = this.changes[this.changes.length - 1 - 2 * p];
+        const stalled = earlier !== undefined && change >= 0.95 * earlier;
+        if (this.periodicHits[p]! >= p + 1 && stalled) return `period-${p}` as OrbitKind;
       }
     }
     const n = this.changes.length;
