@@ -1,0 +1,73 @@
+// `npm run bench`: speed and memory goals, measured as medians and ratios inside one run
+// (the machines are shared and noisy; never as timed assertions in tests).
+
+import { readdirSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { fileURLToPath } from 'node:url';
+import { loadScenarioFile } from '../../src/circuit/load-scenario.js';
+import { availableVariants, type Scenario } from '../../src/circuit/scenario.js';
+import { runVariant, type VariantRun } from '../../src/simulation/run-variant.js';
+import { ExpmSegmentIntegrator } from '../oracle/expm-segment.js';
+
+const REPEATS = 3;
+const TARGET_SCENARIO_SECONDS = 2;
+const TARGET_EVALUATIONS_PER_PERIOD = 10_000;
+const TARGET_PEAK_MEMORY_MB = 200;
+
+const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length >> 1]!;
+const pad = (s: string | number, n: number): string => String(s).padStart(n);
+
+function timed(fn: () => VariantRun): { run: VariantRun; ms: number } {
+  const runs: Array<{ run: VariantRun; ms: number }> = [];
+  for (let i = 0; i < REPEATS; i++) {
+    const t0 = performance.now();
+    const run = fn();
+    runs.push({ run, ms: performance.now() - t0 });
+  }
+  const ms = median(runs.map((r) => r.ms));
+  return { run: runs[0]!.run, ms };
+}
+
+async function scenarioBench(file: string): Promise<{ ok: boolean; totalMs: number }> {
+  const loaded = await loadScenarioFile(file);
+  if (!loaded.ok) throw new Error(`${file}: invalid`);
+  const scenario: Scenario = loaded.scenario;
+  let totalMs = 0;
+  let ok = true;
+  console.log(`\n${scenario.name}  (${file})`);
+  console.log(`  ${'variant'.padEnd(8)}${pad('cycles', 8)}${pad('eval/period', 13)}${pad('periods/s', 11)}${pad('settled ms', 12)}${pad('exact ms', 10)}${pad('odex/exact', 12)}${pad('Δpeak V', 10)}`);
+  for (const variant of availableVariants(scenario)) {
+    const odex = timed(() => runVariant(scenario, variant));
+    const exact = timed(() => runVariant(scenario, variant, { integrator: () => new ExpmSegmentIntegrator() }));
+    totalMs += odex.ms;
+    const evalsPerPeriod = odex.run.stats.derivativeEvaluations / odex.run.cycles;
+    ok &&= evalsPerPeriod <= TARGET_EVALUATIONS_PER_PERIOD;
+    const peak = (r: VariantRun): number => Math.max(...r.recorder.cycles.map((c) => c.drainVoltage.max));
+    console.log(`  ${variant.padEnd(8)}${pad(odex.run.cycles, 8)}${pad(evalsPerPeriod.toFixed(0), 13)}${pad((odex.run.cycles / (odex.ms / 1000)).toFixed(0), 11)}`
+      + `${pad(odex.ms.toFixed(0), 12)}${pad(exact.ms.toFixed(0), 10)}${pad((odex.ms / exact.ms).toFixed(2), 12)}${pad((peak(odex.run) - peak(exact.run)).toExponential(1), 10)}`);
+  }
+  const pass = totalMs < TARGET_SCENARIO_SECONDS * 1000;
+  console.log(`  all variants to the settled answer: ${totalMs.toFixed(0)} ms (target < ${TARGET_SCENARIO_SECONDS * 1000} ms: ${pass ? 'met' : 'MISSED'})`);
+  return { ok: ok && pass, totalMs };
+}
+
+/** A 2,000-cycle run in a fresh process, so that its peak resident memory is its own. */
+function memoryBench(): boolean {
+  const script = fileURLToPath(new URL('./long-run.ts', import.meta.url));
+  const child = spawnSync(process.execPath, ['--import', 'tsx', script], { encoding: 'utf8' });
+  if (child.status !== 0) {
+    console.log(`\n2,000-cycle run failed: ${child.stderr}`);
+    return false;
+  }
+  const { cycles, maxRssMb, seconds } = JSON.parse(child.stdout) as { cycles: number; maxRssMb: number; seconds: number };
+  const pass = maxRssMb < TARGET_PEAK_MEMORY_MB;
+  console.log(`\n${cycles}-cycle run (clamp variant, never allowed to settle): ${seconds.toFixed(1)} s, peak memory ${maxRssMb.toFixed(0)} MB (target < ${TARGET_PEAK_MEMORY_MB} MB: ${pass ? 'met' : 'MISSED'})`);
+  return pass;
+}
+
+const files = readdirSync('scenarios').filter((f) => f.endsWith('.json')).sort().map((f) => `scenarios/${f}`);
+console.log(`flyclamp benchmark: medians of ${REPEATS} runs, one core; targets: < ${TARGET_SCENARIO_SECONDS} s per demo scenario (all variants), ≤ ${TARGET_EVALUATIONS_PER_PERIOD} evaluations per period`);
+let allMet = true;
+for (const file of files) allMet = (await scenarioBench(file)).ok && allMet;
+allMet = memoryBench() && allMet;
+console.log(`\n${allMet ? 'all targets met' : 'some targets MISSED'}`);
