@@ -12,13 +12,15 @@ export type ValidationResult =
 
 type Range = 'positive' | 'non-negative' | 'fraction' | 'whole';
 
-interface NumberField { kind: 'number'; unit: string; range: Range; optional?: number | 'absent' }
+interface NumberField { kind: 'number'; unit: string; range: Range; optional?: number | 'absent'; bounds?: [number, number] }
 interface TextField { kind: 'text' }
 interface BlockSpec { kind: 'block'; optional: boolean; fields: Record<string, FieldSpec> }
 type FieldSpec = NumberField | TextField | BlockSpec;
 
 const num = (unit: string, range: Range, optional?: number | 'absent'): NumberField =>
   optional === undefined ? { kind: 'number', unit, range } : { kind: 'number', unit, range, optional };
+/** A setting with inclusive limits, so that no value can ask for unbounded memory or time. */
+const setting = (range: Range, optional: number, bounds: [number, number]): NumberField => ({ kind: 'number', unit: '', range, optional, bounds });
 const block = (fields: Record<string, FieldSpec>, optional = false): BlockSpec => ({ kind: 'block', optional, fields });
 
 const SCENARIO_SPEC: BlockSpec = block({
@@ -48,11 +50,11 @@ const SCENARIO_SPEC: BlockSpec = block({
   }, true),
   damper: block({ resistance: num('Ω', 'positive'), capacitance: num('F', 'positive') }, true),
   simulation: block({
-    relativeTolerance: num('', 'positive', DEFAULT_SIMULATION.relativeTolerance),
-    settleTolerance: num('', 'positive', DEFAULT_SIMULATION.settleTolerance),
-    maxCycles: num('', 'whole', DEFAULT_SIMULATION.maxCycles),
-    recordedCycles: num('', 'whole', DEFAULT_SIMULATION.recordedCycles),
-    samplesPerCycle: num('', 'whole', DEFAULT_SIMULATION.samplesPerCycle),
+    relativeTolerance: setting('positive', DEFAULT_SIMULATION.relativeTolerance, [1e-12, 1e-3]),
+    settleTolerance: setting('positive', DEFAULT_SIMULATION.settleTolerance, [1e-12, 1e-2]),
+    maxCycles: setting('whole', DEFAULT_SIMULATION.maxCycles, [1, 100_000]),
+    recordedCycles: setting('whole', DEFAULT_SIMULATION.recordedCycles, [1, 20]),
+    samplesPerCycle: setting('whole', DEFAULT_SIMULATION.samplesPerCycle, [100, 20_000]),
   }, true),
 });
 
@@ -60,8 +62,12 @@ const RANGE_TEXT: Record<Range, string> = {
   positive: 'greater than 0',
   'non-negative': '0 or more',
   fraction: 'between 0 and 1 (exclusive)',
-  whole: 'a whole number of 1 or more',
+  whole: '1 or more (a whole number)',
 };
+const rangeText = (field: NumberField): string =>
+  field.bounds ? `${field.range === 'whole' ? 'a whole number' : 'a value'} from ${field.bounds[0]} to ${field.bounds[1]}` : `a value ${RANGE_TEXT[field.range]}`;
+const withinBounds = (value: number, field: NumberField): boolean =>
+  inRange(value, field.range) && (!field.bounds || (value >= field.bounds[0] && value <= field.bounds[1]));
 
 function describe(found: unknown): string {
   if (found === undefined) return 'nothing';
@@ -91,7 +97,7 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
   const source = input as Plain;
   const out: Plain = {};
   for (const key of Object.keys(source)) {
-    if (!(key in spec.fields)) {
+    if (!Object.hasOwn(spec.fields, key)) {
       const known = Object.keys(spec.fields).join(', ');
       issues.push({ path: join(path, key), message: `unknown field (expected one of: ${known}), found ${describe(source[key])}` });
     }
@@ -119,8 +125,8 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
     const parsed = parseSiNumber(value, field.unit);
     if (!parsed.ok) {
       issues.push({ path: fieldPath, message: `expected ${parsed.expected}, found ${describe(value)}` });
-    } else if (!inRange(parsed.value, field.range)) {
-      issues.push({ path: fieldPath, message: `expected a value ${RANGE_TEXT[field.range]}, found ${describe(value)}` });
+    } else if (!withinBounds(parsed.value, field)) {
+      issues.push({ path: fieldPath, message: `expected ${rangeText(field)}, found ${describe(value)}` });
     } else {
       out[key] = parsed.value;
     }
@@ -130,7 +136,7 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
 
 function numberExpectation(field: NumberField): string {
   const unit = field.unit === '' ? '' : ` in ${field.unit}`;
-  return `a number${unit} ${RANGE_TEXT[field.range]}`;
+  return `a number${unit} ${rangeText(field).replace(/^a value /, '')}`;
 }
 
 const join = (path: string, key: string): string => (path ? `${path}.${key}` : key);
@@ -216,7 +222,7 @@ function checkPhysics(s: Scenario, issues: ValidationIssue[], warnings: Validati
     const reachableFromZero = (vin * dmax * period) / (lm + llk);
     const resetsAtMaxDuty = dmax * vin < (1 - dmax) * vr;
     if (ipk >= finalCurrent || (resetsAtMaxDuty && ipk > reachableFromZero)) {
-      const limit = ipk >= finalCurrent ? finalCurrent : reachableFromZero;
+      const limit = resetsAtMaxDuty ? Math.min(finalCurrent, reachableFromZero) : finalCurrent;
       issues.push({
         path: 'switch.peakCurrent',
         message: `expected a peak current the primary can reach within switch.maxDutyCycle of the period (at most about ${fmt(limit)} A here), found ${fmt(ipk)} A`,

@@ -3,6 +3,7 @@
 
 import { Command, CommanderError, Option } from 'commander';
 import { runSimulateCommand } from './simulate-command.js';
+import { DEFAULT_PORT, runServeCommand } from './serve-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
 
 const program = new Command('flyclamp')
@@ -19,6 +20,15 @@ program.command('simulate')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
   .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped' }) => {
     await runSimulateCommand(file, options);
+  });
+
+program.command('serve')
+  .description('serve the plotting page and its JSON API (loopback only by default)')
+  .argument('[file]', 'scenario to print a summary of and open on the page')
+  .option('--port <n>', 'port to listen on (0: any free port)', String(DEFAULT_PORT))
+  .option('--host <h>', 'address to bind', '127.0.0.1')
+  .action(async (file: string | undefined, options: { port: string; host: string }) => {
+    await runServeCommand(file, options);
   });
 
 async function main(): Promise<number> {
@@ -42,4 +52,5 @@ async function main(): Promise<number> {
   }
 }
 
-process.exitCode = await main();
+const code = await main();
+if (code !== 0) process.exit(code);

@@ -6,7 +6,7 @@ import { runVariant, SimulationFailure, type VariantRun } from '../simulation/ru
 import { BadInput, SimulationFailed } from './cli-errors.js';
 import { summaryTable } from './summary-table.js';
 import { waveformCsv } from './waveform-csv.js';
-import { OutputPathError, writeFileAtomic } from './write-atomic.js';
+import { checkOutputPath, OutputPathError, writeFileAtomic } from './write-atomic.js';
 
 export interface SimulateOptions { json?: boolean; csv?: string; variant?: VariantName }
 
@@ -18,6 +18,14 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   const supported = availableVariants(scenario);
   if (options.variant && !supported.includes(options.variant)) {
     throw new BadInput(`--variant: expected one of ${supported.join(', ')} for this scenario (the ${options.variant} variant needs a ${options.variant === 'clamp' ? 'clamp' : 'damper'} block), found ${options.variant}`);
+  }
+  if (options.csv) {
+    try {
+      await checkOutputPath(options.csv, [file]);
+    } catch (error) {
+      if (error instanceof OutputPathError) throw new BadInput(`--csv ${error.message}`);
+      throw error;
+    }
   }
   const variants = options.variant ? [options.variant] : supported;
   const runs: VariantRun[] = [];
