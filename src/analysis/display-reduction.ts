@@ -1,0 +1,41 @@
+// Reduces a uniformly sampled trace for display: min and max per pixel column over a window,
+// so a response stays small whatever the cycle count while every crest and trough still shows.
+
+export interface ReducedTrace {
+  /** Seconds; with reduction each column appears twice (its min, then its max). */
+  timeSeconds: number[];
+  values: number[];
+}
+
+/**
+ * `columns` pixel columns over [startSeconds, endSeconds]. When the window holds fewer samples
+ * than 2 × columns, the samples are returned as they are.
+ */
+export function reduceForDisplay(time: ArrayLike<number>, values: ArrayLike<number>, startSeconds: number, endSeconds: number, columns: number): ReducedTrace {
+  let lo = 0;
+  while (lo < time.length && time[lo]! < startSeconds) lo++;
+  let hi = time.length;
+  while (hi > lo && time[hi - 1]! > endSeconds) hi--;
+  const count = hi - lo;
+  const out: ReducedTrace = { timeSeconds: [], values: [] };
+  if (count <= 2 * columns) {
+    for (let i = lo; i < hi; i++) { out.timeSeconds.push(time[i]!); out.values.push(values[i]!); }
+    return out;
+  }
+  const width = (endSeconds - startSeconds) / columns;
+  let i = lo;
+  for (let c = 0; c < columns; c++) {
+    const columnEnd = c === columns - 1 ? Infinity : startSeconds + (c + 1) * width;
+    let min = Infinity, max = -Infinity, tMin = NaN, tMax = NaN;
+    for (; i < hi && time[i]! < columnEnd; i++) {
+      const v = values[i]!;
+      if (v < min) { min = v; tMin = time[i]!; }
+      if (v > max) { max = v; tMax = time[i]!; }
+    }
+    if (min === Infinity) continue;
+    // Keep the two in time order so the line does not double back.
+    if (tMin <= tMax) { out.timeSeconds.push(tMin, tMax); out.values.push(min, max); }
+    else { out.timeSeconds.push(tMax, tMin); out.values.push(max, min); }
+  }
+  return out;
+}

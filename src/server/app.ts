@@ -1,0 +1,160 @@
+// The HTTP adapter: a JSON API over the simulator and the static page. Simulations run in a
+// worker pool so the request thread stays responsive; concurrency, body size and run time are capped.
+
+import express, { type NextFunction, type Request, type Response } from 'express';
+import { readdir, readFile } from 'node:fs/promises';
+import { availableParallelism } from 'node:os';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { createRequire } from 'node:module';
+import { Piscina } from 'piscina';
+import { validateScenario, type ValidationIssue } from '../circuit/validate-scenario.js';
+import { availableVariants, VARIANT_NAMES, type VariantName } from '../circuit/scenario.js';
+import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
+
+export interface ServerOptions {
+  scenariosDir: string;
+  webDir: string;
+  /** Wall-clock cap per simulation request, ms. */
+  runTimeCapMs?: number;
+  maxConcurrentRuns?: number;
+  maxQueuedRuns?: number;
+  bodyLimitBytes?: number;
+}
+
+export interface FlyclampServer {
+  app: express.Express;
+  close(): Promise<void>;
+}
+
+const here = dirname(fileURLToPath(import.meta.url));
+const runningFromSource = import.meta.url.endsWith('.ts');
+const SCENARIO_ID = /^[a-z0-9][a-z0-9-]{0,63}$/;
+const MAX_COLUMNS = 4000;
+
+class HttpError extends Error {
+  constructor(readonly status: number, message: string, readonly issues?: ValidationIssue[]) { super(message); }
+}
+
+export function createServer(options: ServerOptions): FlyclampServer {
+  const runTimeCapMs = options.runTimeCapMs ?? 20_000;
+  const pool = new Piscina<SimulateTask, SimulateTaskResult>({
+    filename: join(here, runningFromSource ? 'simulate-worker.ts' : 'simulate-worker.js'),
+    ...(runningFromSource ? { execArgv: ['--import', 'tsx'] } : {}),
+    minThreads: 0,
+    maxThreads: options.maxConcurrentRuns ?? Math.max(1, availableParallelism()),
+    maxQueue: options.maxQueuedRuns ?? 8,
+    idleTimeout: 30_000,
+  });
+
+  const app = express();
+  app.disable('x-powered-by');
+  app.use(express.json({ limit: options.bodyLimitBytes ?? 256 * 1024 }));
+
+  app.get('/api/scenarios', async (_req, res) => {
+    res.json({ scenarios: await listScenarios(options.scenariosDir) });
+  });
+
+  app.get('/api/scenarios/:id', async (req, res) => {
+    const id = String(req.params.id);
+    const known = await listScenarios(options.scenariosDir);
+    if (!SCENARIO_ID.test(id) || !known.some((s) => s.id === id)) throw new HttpError(404, `no bundled scenario named "${id}"`);
+    res.type('application/json').send(await readFile(join(options.scenariosDir, `${id}.json`), 'utf8'));
+  });
+
+  app.post('/api/simulate', async (req, res) => {
+    const task = readSimulateBody(req.body, runTimeCapMs);
+    const abort = new AbortController();
+    const timer = setTimeout(() => abort.abort(), runTimeCapMs + 2_000);
+    let result: SimulateTaskResult;
+    try {
+      result = await pool.run(task, { signal: abort.signal });
+    } catch (error) {
+      if (abort.signal.aborted) throw new HttpError(504, `the simulation took longer than its time cap of ${runTimeCapMs / 1000} s`);
+      if (/queue is at limit/i.test((error as Error).message)) throw new HttpError(503, 'the server is busy with other simulations; try again shortly');
+      throw error;
+    } finally {
+      clearTimeout(timer);
+    }
+    if (!result.ok) {
+      const status = /time cap/.test(result.failure) ? 504 : 422;
+      throw new HttpError(status, `simulation failed: ${result.failure}`);
+    }
+    res.json(result);
+  });
+
+  app.use('/api', (_req, _res, next) => next(new HttpError(404, 'no such API route')));
+  const plotly = createRequire(import.meta.url).resolve('plotly.js-dist-min');
+  app.get('/vendor/plotly.min.js', (_req, res) => res.sendFile(plotly));
+  app.use(express.static(options.webDir, { dotfiles: 'deny', index: 'index.html' }));
+
+  app.use((error: unknown, _req: Request, res: Response, _next: NextFunction) => {
+    if (error instanceof HttpError) {
+      res.status(error.status).json({ error: error.message, ...(error.issues ? { issues: error.issues } : {}) });
+      return;
+    }
+    const e = error as { status?: number; type?: string; message?: string };
+    if (e.type === 'entity.too.large') { res.status(413).json({ error: 'request body too large' }); return; }
+    if (e.type === 'entity.parse.failed') { res.status(400).json({ error: 'request body is not valid JSON', issues: [{ path: 'body', message: 'expected JSON, found a syntax error' }] }); return; }
+    if (typeof e.status === 'number' && e.status >= 400 && e.status < 500) { res.status(e.status).json({ error: e.message ?? 'bad request' }); return; }
+    process.stderr.write(`flyclamp serve: internal error: ${e.message ?? String(error)}\n`);
+    res.status(500).json({ error: 'internal error in the simulator; the server log has the details' });
+  });
+
+  return { app, close: () => pool.destroy() };
+}
+
+function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask {
+  if (typeof body !== 'object' || body === null || Array.isArray(body)) {
+    throw new HttpError(400, 'invalid request', [{ path: 'body', message: `expected a JSON object with a "scenario" field, found ${Array.isArray(body) ? 'a list' : typeof body}` }]);
+  }
+  const { scenario: rawScenario, variants, window, columns, ...rest } = body as Record<string, unknown>;
+  const issues: ValidationIssue[] = Object.keys(rest).map((k) => ({ path: `body.${k}`, message: 'unknown field (expected scenario, variants, window, columns)' }));
+  const validated = validateScenario(rawScenario);
+  if (!validated.ok) issues.push(...validated.issues);
+  let chosen: VariantName[] | undefined;
+  if (variants !== undefined) {
+    if (!Array.isArray(variants) || variants.length === 0 || !variants.every((v) => (VARIANT_NAMES as readonly unknown[]).includes(v))) {
+      issues.push({ path: 'body.variants', message: `expected a non-empty list of ${VARIANT_NAMES.join(', ')}, found ${JSON.stringify(variants)}` });
+    } else chosen = variants as VariantName[];
+  }
+  let win: SimulateTask['window'];
+  if (window !== undefined) {
+    const w = window as { startSeconds?: unknown; endSeconds?: unknown };
+    if (typeof w !== 'object' || w === null || typeof w.startSeconds !== 'number' || typeof w.endSeconds !== 'number' || !(w.endSeconds > w.startSeconds)) {
+      issues.push({ path: 'body.window', message: `expected { startSeconds, endSeconds } with end after start, found ${JSON.stringify(window)}` });
+    } else win = { startSeconds: w.startSeconds, endSeconds: w.endSeconds };
+  }
+  if (columns !== undefined && !(Number.isInteger(columns) && (columns as number) >= 10 && (columns as number) <= MAX_COLUMNS)) {
+    issues.push({ path: 'body.columns', message: `expected a whole number from 10 to ${MAX_COLUMNS}, found ${JSON.stringify(columns)}` });
+  }
+  if (issues.length > 0 || !validated.ok) throw new HttpError(400, 'invalid request', issues);
+  const scenario = validated.scenario;
+  const supported = availableVariants(scenario);
+  const wanted = chosen ?? supported;
+  const missing = wanted.filter((v) => !supported.includes(v));
+  if (missing.length > 0) {
+    throw new HttpError(400, 'invalid request', [{ path: 'body.variants', message: `expected variants this scenario supports (${supported.join(', ')}), found ${missing.join(', ')}` }]);
+  }
+  return {
+    scenario, variants: wanted, columns: (columns as number | undefined) ?? 1500,
+    deadlineMs: Date.now() + runTimeCapMs,
+    ...(win ? { window: win } : {}),
+  };
+}
+
+async function listScenarios(dir: string): Promise<Array<{ id: string; name: string }>> {
+  const files = (await readdir(dir)).filter((f) => f.endsWith('.json')).sort();
+  const out: Array<{ id: string; name: string }> = [];
+  for (const f of files) {
+    const id = f.slice(0, -5);
+    if (!SCENARIO_ID.test(id)) continue;
+    try {
+      const raw = JSON.parse(await readFile(join(dir, f), 'utf8')) as { name?: unknown };
+      out.push({ id, name: typeof raw.name === 'string' ? raw.name : id });
+    } catch {
+      // A broken file in the folder is skipped from the list, not a server error.
+    }
+  }
+  return out;
+}

@@ -1,0 +1,54 @@
+// One simulation request as the page needs it: the report (exact metrics from the full
+// resolution) plus display-reduced traces. Runs inside a worker thread.
+
+import type { Scenario, VariantName } from '../circuit/scenario.js';
+import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
+import { reduceForDisplay, type ReducedTrace } from '../analysis/display-reduction.js';
+import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
+
+export interface SimulateTask {
+  scenario: Scenario;
+  variants: VariantName[];
+  /** Window within the recorded cycles, seconds from their start; default all of them. */
+  window?: { startSeconds: number; endSeconds: number };
+  columns: number;
+  deadlineMs: number;
+}
+
+export interface DisplayTraces {
+  drainVoltage: ReducedTrace;
+  clampVoltage?: ReducedTrace;
+  /** Turn-off instants within the window (seconds), for "zoom to a turn-off". */
+  turnOffSeconds: number[];
+}
+
+export type SimulateTaskResult =
+  | { ok: true; report: SimulationReport; traces: Partial<Record<VariantName, DisplayTraces>>; periodSeconds: number; recordedSeconds: number }
+  | { ok: false; failure: string };
+
+export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
+  const runs: VariantRun[] = [];
+  try {
+    for (const v of task.variants) runs.push(runVariant(task.scenario, v, { deadlineMs: task.deadlineMs }));
+  } catch (error) {
+    if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
+    throw error;
+  }
+  const period = 1 / task.scenario.switch.frequency;
+  const recordedSeconds = task.scenario.simulation.recordedCycles * period;
+  const start = task.window?.startSeconds ?? 0;
+  const end = task.window?.endSeconds ?? recordedSeconds;
+  const traces: Partial<Record<VariantName, DisplayTraces>> = {};
+  for (const run of runs) {
+    const { timeSeconds, channels } = run.recorder.waveform;
+    const entry: DisplayTraces = {
+      drainVoltage: reduceForDisplay(timeSeconds, channels.drainVoltage, start, end, task.columns),
+      turnOffSeconds: run.recorder.cycles
+        .map((c, k) => k * period + c.turnOffSeconds)
+        .filter((t) => t >= start && t <= end),
+    };
+    if (run.params.clamp) entry.clampVoltage = reduceForDisplay(timeSeconds, channels.clampVoltage, start, end, task.columns);
+    traces[run.variant] = entry;
+  }
+  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds };
+}
