@@ -17,7 +17,7 @@ export async function runServeCommand(file: string | undefined, options: ServeOp
     throw new BadInput(`--port: expected a whole number from 0 to 65535 (0 for any free port), found ${JSON.stringify(options.port)}`);
   }
   if (file) await runSimulateCommand(file, {});
-  const server = createServer({ scenariosDir: join(packageRoot, 'scenarios'), webDir: join(packageRoot, 'web') });
+  const server = createServer({ scenariosDir: join(packageRoot, 'scenarios'), webDir: join(packageRoot, 'web'), readmeFile: join(packageRoot, 'README.md') });
   const listener = server.app.listen(port, options.host);
   await new Promise<void>((ok, fail) => {
     listener.once('listening', ok);

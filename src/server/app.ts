@@ -15,6 +15,8 @@ import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
 export interface ServerOptions {
   scenariosDir: string;
   webDir: string;
+  /** Served as text at /README.md, for the page's link to the safety section. */
+  readmeFile?: string;
   /** Wall-clock cap per simulation request, ms. */
   runTimeCapMs?: number;
   maxConcurrentRuns?: number;
@@ -86,6 +88,10 @@ export function createServer(options: ServerOptions): FlyclampServer {
   app.use('/api', (_req, _res, next) => next(new HttpError(404, 'no such API route')));
   const plotly = createRequire(import.meta.url).resolve('plotly.js-dist-min');
   app.get('/vendor/plotly.min.js', (_req, res) => res.sendFile(plotly));
+  if (options.readmeFile) {
+    const readme = options.readmeFile;
+    app.get('/README.md', (_req, res) => res.type('text/plain; charset=utf-8').sendFile(readme));
+  }
   app.use(express.static(options.webDir, { dotfiles: 'deny', index: 'index.html' }));
 
   app.use((error: unknown, _req: Request, res: Response, _next: NextFunction) => {
