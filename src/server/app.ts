@@ -40,12 +40,15 @@ class HttpError extends Error {
 
 export function createServer(options: ServerOptions): FlyclampServer {
   const runTimeCapMs = options.runTimeCapMs ?? 20_000;
+  const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
+  // Admission is counted here rather than left to the pool's queue, so "busy" is exact.
+  const maxAdmitted = maxConcurrentRuns + (options.maxQueuedRuns ?? 8);
+  let admitted = 0;
   const pool = new Piscina<SimulateTask, SimulateTaskResult>({
     filename: join(here, runningFromSource ? 'simulate-worker.ts' : 'simulate-worker.js'),
     ...(runningFromSource ? { execArgv: ['--import', 'tsx'] } : {}),
     minThreads: 0,
-    maxThreads: options.maxConcurrentRuns ?? Math.max(1, availableParallelism()),
-    maxQueue: options.maxQueuedRuns ?? 8,
+    maxThreads: maxConcurrentRuns,
     idleTimeout: 30_000,
   });
 
@@ -66,17 +69,20 @@ export function createServer(options: ServerOptions): FlyclampServer {
 
   app.post('/api/simulate', async (req, res) => {
     const task = readSimulateBody(req.body, runTimeCapMs);
+    if (admitted >= maxAdmitted) throw new HttpError(503, 'the server is busy with other simulations; try again shortly');
+    admitted++;
     const abort = new AbortController();
+    // The run checks its own deadline between cycles; the abort is the backstop for a stuck worker.
     const timer = setTimeout(() => abort.abort(), runTimeCapMs + 2_000);
     let result: SimulateTaskResult;
     try {
       result = await pool.run(task, { signal: abort.signal });
     } catch (error) {
       if (abort.signal.aborted) throw new HttpError(504, `the simulation took longer than its time cap of ${runTimeCapMs / 1000} s`);
-      if (/queue is at limit/i.test((error as Error).message)) throw new HttpError(503, 'the server is busy with other simulations; try again shortly');
       throw error;
     } finally {
       clearTimeout(timer);
+      admitted--;
     }
     if (!result.ok) {
       const status = /time cap/.test(result.failure) ? 504 : 422;

@@ -1,0 +1,122 @@
+import { afterAll, beforeAll, describe, expect, it } from 'vitest';
+import { execFile } from 'node:child_process';
+import { readFile } from 'node:fs/promises';
+import { promisify } from 'node:util';
+import type { AddressInfo } from 'node:net';
+import type { Server } from 'node:http';
+import { createServer, type FlyclampServer } from '../../src/server/app.js';
+
+const run = promisify(execFile);
+
+interface Started { base: string; server: FlyclampServer; listener: Server }
+
+async function start(options: Partial<Parameters<typeof createServer>[0]> = {}): Promise<Started> {
+  const server = createServer({ scenariosDir: 'scenarios', webDir: 'web', readmeFile: 'README.md', ...options });
+  const listener = server.app.listen(0, '127.0.0.1');
+  await new Promise<void>((ok) => listener.once('listening', () => ok()));
+  return { base: `http://127.0.0.1:${(listener.address() as AddressInfo).port}`, server, listener };
+}
+async function stop(s: Started): Promise<void> {
+  await new Promise<void>((ok) => s.listener.close(() => ok()));
+  await s.server.close();
+}
+const post = (base: string, body: unknown): Promise<Response> =>
+  fetch(`${base}/api/simulate`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(body) });
+const demo = async (id: string): Promise<Record<string, unknown>> => JSON.parse(await readFile(`scenarios/${id}.json`, 'utf8')) as Record<string, unknown>;
+
+type Metrics = Record<string, unknown> & { stats: unknown };
+const withoutTimings = (variants: Record<string, Metrics>): Record<string, unknown> =>
+  Object.fromEntries(Object.entries(variants).map(([k, { stats: _stats, ...m }]) => [k, m]));
+
+describe('HTTP API', () => {
+  let s: Started;
+  beforeAll(async () => { s = await start(); });
+  afterAll(async () => { await stop(s); });
+
+  it('GET /api/scenarios lists the bundled scenarios; GET /api/scenarios/:id returns one, 404 for an unknown id', async () => {
+    const list = await (await fetch(`${s.base}/api/scenarios`)).json() as { scenarios: Array<{ id: string; name: string }> };
+    expect(list.scenarios.map((x) => x.id)).toEqual(expect.arrayContaining(['bias-48v', 'mains-aux-12v', 'gate-drive-24v']));
+    const one = await (await fetch(`${s.base}/api/scenarios/bias-48v`)).json() as { name: string };
+    expect(one.name).toBe((await demo('bias-48v')).name);
+    expect((await fetch(`${s.base}/api/scenarios/no-such`)).status).toBe(404);
+    expect((await fetch(`${s.base}/api/scenarios/..%2Fpackage`)).status).toBe(404);
+  });
+
+  it('POST /api/simulate gives the same metrics as `flyclamp simulate --json` for a demo scenario', async () => {
+    const res = await post(s.base, { scenario: await demo('gate-drive-24v') });
+    expect(res.status).toBe(200);
+    const body = await res.json() as { report: { variants: Record<string, Metrics> }; traces: Record<string, { drainVoltage: { values: number[] } }> };
+    const cli = await run(process.execPath, ['dist/cli/main.js', 'simulate', 'scenarios/gate-drive-24v.json', '--json']);
+    const expected = JSON.parse(cli.stdout) as { variants: Record<string, Metrics> };
+    expect(Object.keys(body.report.variants)).toEqual(['bare', 'clamp', 'damped']);
+    expect(withoutTimings(body.report.variants)).toEqual(withoutTimings(expected.variants));
+    // The display trace's highest point is a grid sample: at most the exact peak, and close to it.
+    const peak = body.report.variants.bare!.peakDrainVoltage as number;
+    const shown = Math.max(...body.traces.bare!.drainVoltage.values);
+    expect(shown).toBeLessThanOrEqual(peak + 1e-9);
+    expect(shown).toBeGreaterThan(0.98 * peak);
+  }, 60_000);
+
+  it('POST /api/simulate answers 400 naming each bad field, as the CLI does', async () => {
+    const scenario = await demo('bias-48v');
+    (scenario.transformer as Record<string, unknown>).leakageInductance = '-1u';
+    (scenario.switch as Record<string, unknown>).frequncy = 1e5;
+    const res = await post(s.base, { scenario, variants: ['sideways'] });
+    expect(res.status).toBe(400);
+    const body = await res.json() as { issues: Array<{ path: string; message: string }> };
+    const paths = body.issues.map((i) => i.path);
+    expect(paths).toEqual(expect.arrayContaining(['transformer.leakageInductance', 'switch.frequncy', 'body.variants']));
+    expect(body.issues.find((i) => i.path === 'transformer.leakageInductance')!.message).toMatch(/expected .*greater than 0, found "-1u"/);
+  });
+
+  it('POST /api/simulate answers 400 for a body that is not JSON, and 413 for an oversized one', async () => {
+    const bad = await fetch(`${s.base}/api/simulate`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: '{"scenario": ' });
+    expect(bad.status).toBe(400);
+    expect(((await bad.json()) as { error: string }).error).toMatch(/not valid JSON/);
+    const big = await post(s.base, { scenario: await demo('bias-48v'), padding: 'x'.repeat(400 * 1024) });
+    expect(big.status).toBe(413);
+    expect(((await big.json()) as { error: string }).error).toMatch(/too large/);
+  });
+
+  it('a long recording still answers well under 2 MB (traces are reduced per pixel column)', async () => {
+    const scenario = await demo('bias-48v');
+    scenario.simulation = { recordedCycles: 20, samplesPerCycle: 20000 };
+    const res = await post(s.base, { scenario });
+    expect(res.status).toBe(200);
+    const text = await res.text();
+    expect(text.length).toBeLessThan(2 * 1024 * 1024);
+    const body = JSON.parse(text) as { traces: { bare: { drainVoltage: { values: number[] } } } };
+    expect(body.traces.bare.drainVoltage.values.length).toBeLessThanOrEqual(2 * 1500);
+  }, 60_000);
+
+  it('serves only its own static files: no path traversal, no dotfiles', async () => {
+    for (const path of ['/../package.json', '/%2e%2e/package.json', '/..%2fpackage.json', '/%2e%2e%2fsrc%2fserver%2fapp.ts']) {
+      const res = await fetch(`${s.base}${path}`);
+      expect(res.status, path).toBeGreaterThanOrEqual(400);
+      expect(await res.text(), path).not.toMatch(/"dependencies"|createServer/);
+    }
+    expect((await fetch(`${s.base}/vendor/plotly.min.js`)).status).toBe(200);
+  });
+});
+
+describe('HTTP API limits', () => {
+  it('a run over its time cap answers 504 with a clear message', async () => {
+    const s = await start({ runTimeCapMs: 1 });
+    try {
+      const res = await post(s.base, { scenario: await demo('mains-aux-12v') });
+      expect(res.status).toBe(504);
+      expect(((await res.json()) as { error: string }).error).toMatch(/time cap/);
+    } finally { await stop(s); }
+  }, 60_000);
+
+  it('more concurrent requests than runs plus queue get 503 busy, and the rest succeed', async () => {
+    const s = await start({ maxConcurrentRuns: 1, maxQueuedRuns: 1 });
+    try {
+      const scenario = await demo('bias-48v');
+      const statuses = (await Promise.all([0, 1, 2, 3].map(() => post(s.base, { scenario, variants: ['clamp'] })))).map((r) => r.status);
+      expect(statuses.filter((x) => x === 200).length).toBeGreaterThanOrEqual(1);
+      expect(statuses.filter((x) => x === 503).length).toBeGreaterThanOrEqual(1);
+      expect(statuses.every((x) => x === 200 || x === 503)).toBe(true);
+    } finally { await stop(s); }
+  }, 60_000);
+});
