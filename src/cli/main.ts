@@ -4,6 +4,7 @@
 import { Command, CommanderError, Option } from 'commander';
 import { runSimulateCommand } from './simulate-command.js';
 import { DEFAULT_PORT, runServeCommand } from './serve-command.js';
+import { runSweepCommand, type SweepOptions } from './sweep-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
 
 const program = new Command('flyclamp')
@@ -20,6 +21,22 @@ program.command('simulate')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
   .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped' }) => {
     await runSimulateCommand(file, options);
+  });
+
+const collect = (value: string, previous: string[]): string[] => [...previous, value];
+program.command('sweep')
+  .description('run a scenario over ranges, corners or Monte Carlo samples of its fields, all variants settled')
+  .argument('<file>', 'scenario JSON file')
+  .option('--vary <spec>', 'PATH=FROM..TO[:STEPS], values with SI prefixes or in % of nominal (repeatable: a grid)', collect, [])
+  .option('--corners', 'only every combination of the ends of the --vary ranges')
+  .option('--samples <n>', 'Monte Carlo: number of samples drawn within the --tolerance ranges')
+  .option('--tolerance <spec>', 'PATH=±X%[:uniform|:normal] (normal: σ = X/3), repeatable', collect, [])
+  .option('--seed <n>', 'seed of the Monte Carlo draws', '1')
+  .option('--json', 'print one JSON object instead of the table')
+  .option('--csv <file>', 'write one row per point')
+  .option('--threads <n>', 'worker threads (default: all cores; 0: this thread only)')
+  .action(async (file: string, options: SweepOptions) => {
+    await runSweepCommand(file, options);
   });
 
 program.command('serve')

@@ -4,10 +4,9 @@
 import express, { type NextFunction, type Request, type Response } from 'express';
 import { readdir, readFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
-import { dirname, join } from 'node:path';
-import { fileURLToPath } from 'node:url';
+import { join } from 'node:path';
 import { createRequire } from 'node:module';
-import { Piscina } from 'piscina';
+import { createPool } from '../workers/create-pool.js';
 import { validateScenario, type ValidationIssue } from '../circuit/validate-scenario.js';
 import { availableVariants, VARIANT_NAMES, type VariantName } from '../circuit/scenario.js';
 import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
@@ -29,8 +28,6 @@ export interface FlyclampServer {
   close(): Promise<void>;
 }
 
-const here = dirname(fileURLToPath(import.meta.url));
-const runningFromSource = import.meta.url.endsWith('.ts');
 const SCENARIO_ID = /^[a-z0-9][a-z0-9-]{0,63}$/;
 const MAX_COLUMNS = 4000;
 
@@ -44,13 +41,7 @@ export function createServer(options: ServerOptions): FlyclampServer {
   // Admission is counted here rather than left to the pool's queue, so "busy" is exact.
   const maxAdmitted = maxConcurrentRuns + (options.maxQueuedRuns ?? 8);
   let admitted = 0;
-  const pool = new Piscina<SimulateTask, SimulateTaskResult>({
-    filename: join(here, runningFromSource ? 'simulate-worker.ts' : 'simulate-worker.js'),
-    ...(runningFromSource ? { execArgv: ['--import', 'tsx'] } : {}),
-    minThreads: 0,
-    maxThreads: maxConcurrentRuns,
-    idleTimeout: 30_000,
-  });
+  const pool = createPool<SimulateTask, SimulateTaskResult>(import.meta.url, 'simulate-worker', { maxThreads: maxConcurrentRuns });
 
   const app = express();
   app.disable('x-powered-by');

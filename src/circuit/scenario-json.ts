@@ -1,0 +1,54 @@
+// A validated Scenario back in the file format (plain SI numbers), for saving, for pasting
+// blocks into scenario files, and as the base that sweeps vary field by field.
+
+import type { Scenario } from './scenario.js';
+
+export type ScenarioJson = Record<string, unknown> & { name: string };
+
+export function scenarioToJson(s: Scenario): ScenarioJson {
+  const control = s.switch.control;
+  const out: ScenarioJson = {
+    name: s.name,
+    supply: { voltage: s.supply.voltage },
+    transformer: { ...s.transformer },
+    output: { ...s.output },
+    switch: {
+      frequency: s.switch.frequency,
+      ...(control.kind === 'peak-current'
+        ? { peakCurrent: control.peakCurrent, maxDutyCycle: control.maxDutyCycle }
+        : { dutyCycle: control.dutyCycle }),
+      drainCapacitance: s.switch.drainCapacitance,
+      onResistance: s.switch.onResistance,
+      bodyDiodeDrop: s.switch.bodyDiodeDrop,
+      voltageRating: s.switch.voltageRating,
+    },
+    simulation: { ...s.simulation },
+  };
+  if (s.clamp) out.clamp = { ...s.clamp };
+  if (s.damper) out.damper = { ...s.damper };
+  return out;
+}
+
+/** Reads a numeric field by its dotted path ("transformer.leakageInductance"), or undefined. */
+export function getNumberAt(json: Record<string, unknown>, path: string): number | undefined {
+  let node: unknown = json;
+  for (const key of path.split('.')) {
+    if (typeof node !== 'object' || node === null || !Object.hasOwn(node, key)) return undefined;
+    node = (node as Record<string, unknown>)[key];
+  }
+  return typeof node === 'number' ? node : undefined;
+}
+
+/** A copy of `json` with the field at `path` set; the blocks on the way must exist. */
+export function withNumberAt<T extends Record<string, unknown>>(json: T, path: string, value: number): T {
+  const keys = path.split('.');
+  const copy = structuredClone(json);
+  let node: Record<string, unknown> = copy;
+  for (const key of keys.slice(0, -1)) {
+    const next = node[key];
+    if (typeof next !== 'object' || next === null) throw new RangeError(`${path}: the block "${key}" is not in this scenario`);
+    node = next as Record<string, unknown>;
+  }
+  node[keys[keys.length - 1]!] = value;
+  return copy;
+}

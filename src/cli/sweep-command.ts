@@ -1,0 +1,197 @@
+import { loadScenarioFile } from '../circuit/load-scenario.js';
+import { formatIssues } from '../circuit/validate-scenario.js';
+import { formatSi } from '../circuit/si-number.js';
+import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
+import type { VariantName } from '../circuit/scenario.js';
+import { parseTolerance, parseVary, StudySpecError } from '../study/study-spec.js';
+import { cornerPoints, gridPoints, monteCarloPoints, type PointValues } from '../study/study-points.js';
+import { runStudy, type StudyPoint, type StudyRun } from '../study/run-study.js';
+import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
+import { BadInput } from './cli-errors.js';
+import { checkOutputPath, OutputPathError, writeFileAtomic } from './write-atomic.js';
+
+export interface SweepOptions {
+  vary: string[];
+  corners?: boolean;
+  samples?: string;
+  tolerance: string[];
+  seed: string;
+  json?: boolean;
+  csv?: string;
+  threads?: string;
+}
+
+const UNIT_BY_FIELD: Record<string, string> = {
+  voltage: 'V', magnetizingInductance: 'H', leakageInductance: 'H', primaryResistance: 'Ω', diodeDrop: 'V',
+  frequency: 'Hz', peakCurrent: 'A', drainCapacitance: 'F', onResistance: 'Ω', bodyDiodeDrop: 'V',
+  voltageRating: 'V', resistance: 'Ω', capacitance: 'F',
+};
+const unitOf = (path: string): string => UNIT_BY_FIELD[path.split('.').pop() ?? ''] ?? '';
+
+export async function runSweepCommand(file: string, options: SweepOptions): Promise<void> {
+  const loaded = await loadScenarioFile(file);
+  if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
+  const base = scenarioToJson(loaded.scenario);
+  const nominal = (path: string): number | undefined => getNumberAt(base, path);
+  const points = choosePoints(options, nominal);
+  if (options.csv) await guard(() => checkOutputPath(options.csv!, [file]));
+  const threads = options.threads === undefined ? undefined : Number(options.threads);
+  if (threads !== undefined && !(Number.isInteger(threads) && threads >= 0 && threads <= 64)) {
+    throw new BadInput(`--threads: expected a whole number from 0 (this thread only) to 64, found ${JSON.stringify(options.threads)}`);
+  }
+
+  const abort = new AbortController();
+  const onInterrupt = (): void => {
+    if (abort.signal.aborted) process.exit(130);
+    process.stderr.write('\nstopping: keeping the finished points (Ctrl-C again to quit at once)\n');
+    abort.abort();
+  };
+  process.on('SIGINT', onInterrupt);
+  const progress = progressLine(points.length);
+  let study: StudyRun;
+  try {
+    study = await runStudy(base, points, { signal: abort.signal, onProgress: progress.update, ...(threads === undefined ? {} : { threads }) });
+  } finally {
+    process.off('SIGINT', onInterrupt);
+    progress.finish();
+  }
+
+  const worst = worstPerVariant(study.points);
+  const monteCarlo = options.samples ? peakDistribution(study.points, study.deratedLimit) : undefined;
+  const result = {
+    scenario: loaded.scenario.name,
+    kind: options.samples ? 'monte-carlo' : options.corners ? 'corners' : 'grid',
+    ...(options.samples ? { seed: Number(options.seed) } : {}),
+    voltageRating: study.voltageRating,
+    deratedLimit: study.deratedLimit,
+    interrupted: study.interrupted,
+    pointsRequested: points.length,
+    points: study.points,
+    worst,
+    ...(monteCarlo ? { monteCarlo } : {}),
+  };
+  process.stdout.write(options.json ? `${JSON.stringify(result, null, 2)}\n` : `${sweepTable(result.scenario, study, worst, monteCarlo)}\n`);
+  if (options.csv) {
+    await guard(() => writeFileAtomic(options.csv!, sweepCsv(study.points), [file]));
+    if (!options.json) process.stdout.write(`Points written to ${options.csv}\n`);
+  }
+  if (study.interrupted) process.exitCode = 130;
+}
+
+async function guard<T>(fn: () => Promise<T>): Promise<T> {
+  try { return await fn(); } catch (error) {
+    if (error instanceof OutputPathError) throw new BadInput(`--csv ${error.message}`);
+    throw error;
+  }
+}
+
+function choosePoints(options: SweepOptions, nominal: (path: string) => number | undefined): PointValues[] {
+  try {
+    if (options.samples !== undefined) {
+      const samples = Number(options.samples);
+      if (!(Number.isInteger(samples) && samples >= 1 && samples <= 100_000)) {
+        throw new StudySpecError(`--samples: expected a whole number from 1 to 100000, found ${JSON.stringify(options.samples)}`);
+      }
+      if (options.vary.length > 0) throw new StudySpecError('--samples: expected --tolerance ranges for Monte Carlo, found --vary as well (use one or the other)');
+      if (options.tolerance.length === 0) throw new StudySpecError('--samples: expected at least one --tolerance PATH=±X%, found none');
+      const seed = Number(options.seed);
+      if (!Number.isInteger(seed)) throw new StudySpecError(`--seed: expected a whole number, found ${JSON.stringify(options.seed)}`);
+      const tolerances = options.tolerance.map((t) => parseTolerance(t, nominal));
+      return monteCarloPoints(tolerances, (p) => nominal(p)!, samples, seed);
+    }
+    if (options.tolerance.length > 0) throw new StudySpecError('--tolerance: expected --samples N with it (Monte Carlo), found none');
+    if (options.vary.length === 0) throw new StudySpecError('sweep: expected at least one --vary PATH=FROM..TO[:STEPS] (or --samples N with --tolerance), found none');
+    const ranges = options.vary.map((v) => parseVary(v, nominal));
+    const points = options.corners ? cornerPoints(ranges) : gridPoints(ranges);
+    if (points.length > 100_000) throw new StudySpecError(`--vary: expected at most 100000 points in the grid, found ${points.length}`);
+    return points;
+  } catch (error) {
+    if (error instanceof StudySpecError) throw new BadInput(error.message);
+    throw error;
+  }
+}
+
+/** A progress line on a terminal: points done, rate, time left. Silent when stderr is not a TTY. */
+function progressLine(total: number): { update: (done: number, total: number, failed: number) => void; finish: () => void } {
+  const started = Date.now();
+  const tty = process.stderr.isTTY === true;
+  let shown = false;
+  return {
+    update: (done, _total, failed) => {
+      if (!tty) return;
+      const seconds = (Date.now() - started) / 1000;
+      const rate = done / Math.max(seconds, 1e-3);
+      const left = (total - done) / Math.max(rate, 1e-9);
+      const width = 24;
+      const filled = Math.round((width * done) / total);
+      process.stderr.write(`\r[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${done}/${total} points${failed ? `, ${failed} failed` : ''}, ${rate.toFixed(1)}/s, ${left.toFixed(0)} s left  `);
+      shown = true;
+    },
+    finish: () => { if (shown) process.stderr.write('\n'); },
+  };
+}
+
+const VARIANT_ORDER: VariantName[] = ['bare', 'clamp', 'damped'];
+const signed = (v: number): string => `${v >= 0 ? '+' : ''}${formatSi(v, 'V', 3)}`;
+
+function sweepTable(name: string, study: StudyRun, worst: ReturnType<typeof worstPerVariant>, monteCarlo: ReturnType<typeof peakDistribution> | undefined): string {
+  const paths = [...new Set(study.points.flatMap((p) => Object.keys(p.values)))];
+  const variants = VARIANT_ORDER.filter((v) => study.points.some((p) => p.variants?.[v]));
+  const header = ['#', ...paths, ...variants.map((v) => `${v} peak (to rating, to limit)`), 'clamp mean', 'ripple', 'clamp R power'];
+  const rows = study.points.map((p) => {
+    const clamp = p.variants?.clamp;
+    return [
+      String(p.index + 1),
+      ...paths.map((path) => formatSi(p.values[path]!, unitOf(path))),
+      ...(p.failure ? [`failed: ${p.failure}`] : variants.map((v) => {
+        const m = p.variants?.[v];
+        return m ? `${formatSi(m.peakDrainVoltage, 'V')} (${signed(m.marginToRating)}, ${signed(m.marginToDeratedLimit)})${m.settled ? '' : ` ${m.orbit}`}` : '—';
+      })),
+      ...(p.failure ? [] : [clamp?.clampVoltageMean, clamp?.clampVoltageRipple].map((v) => (v === undefined ? '—' : formatSi(v, 'V'))).concat(clamp?.clampResistorPower === undefined ? '—' : formatSi(clamp.clampResistorPower, 'W'))),
+    ];
+  });
+  const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
+  const render = (r: string[]): string => r.map((c, i) => c.padEnd(widths[i] ?? 0)).join('  ').trimEnd();
+  const lines = [`Sweep of ${name}: ${study.points.length} points; rating ${formatSi(study.voltageRating, 'V')}, derated limit ${formatSi(study.deratedLimit, 'V')}`, '', render(header), ...rows.map(render), ''];
+  for (const v of variants) {
+    const w = worst[v];
+    if (!w) continue;
+    const at = Object.entries(w.values).map(([path, value]) => `${path} = ${formatSi(value, unitOf(path))}`).join(', ');
+    lines.push(`worst ${v}: ${formatSi(w.peakDrainVoltage, 'V')} at point ${w.index + 1}${at ? ` (${at})` : ''}; margin to the derated limit ${signed(w.marginToDeratedLimit)}`);
+  }
+  if (monteCarlo) {
+    lines.push('');
+    for (const v of variants) {
+      const d = monteCarlo[v];
+      if (!d) continue;
+      const q = d.percentiles;
+      lines.push(`${v}: ${(100 * d.fractionOverDeratedLimit).toFixed(1)} % of ${d.samples} samples over the derated limit; peak p5 ${formatSi(q.p5, 'V')}, p50 ${formatSi(q.p50, 'V')}, p95 ${formatSi(q.p95, 'V')}, p99 ${formatSi(q.p99, 'V')}, max ${formatSi(q.max, 'V')}`);
+    }
+  }
+  const failed = study.points.filter((p) => p.failure).length;
+  if (failed) lines.push('', `${failed} point(s) failed; their reasons are in the table.`);
+  if (study.interrupted) lines.push('', `Interrupted: ${study.points.length} finished points shown.`);
+  lines.push('', 'Design aid only, not compliance evidence. See the README, "Safety".');
+  return lines.join('\n');
+}
+
+function sweepCsv(points: readonly StudyPoint[]): string {
+  const paths = [...new Set(points.flatMap((p) => Object.keys(p.values)))];
+  const metrics = ['peakDrainVoltage', 'marginToRating', 'marginToDeratedLimit', 'clampVoltageMean', 'clampVoltageRipple', 'clampResistorPower', 'damperResistorPower', 'settled'] as const;
+  const units: Record<(typeof metrics)[number], string> = {
+    peakDrainVoltage: 'V', marginToRating: 'V', marginToDeratedLimit: 'V', clampVoltageMean: 'V', clampVoltageRipple: 'V', clampResistorPower: 'W', damperResistorPower: 'W', settled: '',
+  };
+  const header = ['point', ...paths.map((p) => `${p} (${unitOf(p) || '1'})`),
+    ...VARIANT_ORDER.flatMap((v) => metrics.map((m) => `${v} ${m}${units[m] ? ` (${units[m]})` : ''}`)), 'failure'];
+  const lines = [header.join(',')];
+  for (const p of points) {
+    const cells = [String(p.index + 1), ...paths.map((path) => String(p.values[path]))];
+    for (const v of VARIANT_ORDER) {
+      const m = p.variants?.[v] as Record<string, unknown> | undefined;
+      for (const k of metrics) cells.push(m?.[k] === undefined ? '' : String(m[k]));
+    }
+    cells.push(p.failure ? `"${p.failure.replace(/"/g, '""')}"` : '');
+    lines.push(cells.join(','));
+  }
+  return `${lines.join('\n')}\n`;
+}

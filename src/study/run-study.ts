@@ -1,0 +1,77 @@
+// Runs study points on a worker pool (all cores by default), in order of submission; a failed
+// point is kept with its reason, and an abort keeps the points already finished.
+
+import { withNumberAt, type ScenarioJson } from '../circuit/scenario-json.js';
+import type { SimulationReport } from '../analysis/simulation-report.js';
+import { createPool } from '../workers/create-pool.js';
+import type { PointValues } from './study-points.js';
+import { runPointTask, type PointResult, type PointTask } from './point-task.js';
+
+export interface StudyPoint {
+  index: number;
+  values: PointValues;
+  variants?: SimulationReport['variants'];
+  failure?: string;
+}
+
+export interface StudyRun { points: StudyPoint[]; interrupted: boolean; deratedLimit: number; voltageRating: number }
+
+export interface StudyOptions {
+  /** Worker threads; 0 runs the points one after another on this thread. */
+  threads?: number;
+  signal?: AbortSignal;
+  onProgress?: (done: number, total: number, failed: number) => void;
+}
+
+export function scenarioAtPoint(base: ScenarioJson, values: PointValues): ScenarioJson {
+  let json = base;
+  for (const [path, value] of Object.entries(values)) json = withNumberAt(json, path, value);
+  return json;
+}
+
+export async function runStudy(base: ScenarioJson, pointValues: readonly PointValues[], options: StudyOptions = {}): Promise<StudyRun> {
+  const total = pointValues.length;
+  const points: Array<StudyPoint | undefined> = new Array(total);
+  let done = 0, failed = 0;
+  let deratedLimit = NaN, voltageRating = NaN;
+  const record = (index: number, result: PointResult): void => {
+    const values = pointValues[index]!;
+    if (result.ok) {
+      points[index] = { index, values, variants: result.report.variants };
+      deratedLimit = result.report.deratedLimit;
+      voltageRating = result.report.voltageRating;
+    } else {
+      points[index] = { index, values, failure: result.failure };
+      failed++;
+    }
+    done++;
+    options.onProgress?.(done, total, failed);
+  };
+  const task = (index: number): PointTask => ({ scenarioJson: scenarioAtPoint(base, pointValues[index]!) });
+
+  if ((options.threads ?? 1) === 0) {
+    for (let i = 0; i < total && !options.signal?.aborted; i++) {
+      record(i, runPointTask(task(i)));
+      await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
+    }
+  } else {
+    const pool = createPool<PointTask, PointResult>(import.meta.url, 'point-worker', options.threads === undefined ? {} : { maxThreads: options.threads });
+    try {
+      await Promise.all(pointValues.map(async (_, i) => {
+        try {
+          record(i, await pool.run(task(i), options.signal ? { signal: options.signal } : {}));
+        } catch (error) {
+          if (options.signal?.aborted) return;
+          record(i, { ok: false, failure: `worker error: ${(error as Error).message}` });
+        }
+      }));
+    } finally {
+      await pool.destroy();
+    }
+  }
+  return {
+    points: points.filter((p): p is StudyPoint => p !== undefined),
+    interrupted: options.signal?.aborted ?? false,
+    deratedLimit, voltageRating,
+  };
+}

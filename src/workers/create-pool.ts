@@ -1,0 +1,20 @@
+// Worker pools for simulations (server requests, sweep points). Under tsx or vitest the code
+// runs from .ts sources, and the worker must then be started with tsx too.
+
+import { Piscina } from 'piscina';
+import { availableParallelism } from 'node:os';
+
+export interface PoolOptions { maxThreads?: number; idleTimeoutMs?: number }
+
+/** `callerUrl` is the caller's import.meta.url; the worker file sits beside it as `workerBaseName`.js (or .ts). */
+export function createPool<Task, Result>(callerUrl: string, workerBaseName: string, options: PoolOptions = {}): Piscina<Task, Result> {
+  const fromSource = callerUrl.endsWith('.ts');
+  const filename = new URL(`./${workerBaseName}${fromSource ? '.ts' : '.js'}`, callerUrl).pathname;
+  return new Piscina<Task, Result>({
+    filename: decodeURIComponent(filename),
+    ...(fromSource ? { execArgv: ['--import', 'tsx'] } : {}),
+    minThreads: 0,
+    maxThreads: options.maxThreads ?? Math.max(1, availableParallelism()),
+    idleTimeout: options.idleTimeoutMs ?? 30_000,
+  });
+}
