@@ -1,4 +1,5 @@
-// Classifies the sequence of period-start states: settled (a fixed point), a period-p orbit
+// Classifies the sequence of period-start states: settled (estimated within the tolerance of a
+// fixed point, from the change per cycle and its rate of decrease), a period-p orbit
 // (peak-current control above 50 % duty in continuous conduction doubles its period), or
 // non-periodic. Distances are max-norms of the change, each component divided by its scale.
 
@@ -13,6 +14,8 @@ export class OrbitTracker {
   private settledHits = 0;
   /** Latest cycle-to-cycle change, relative to the scales. */
   lastChange = Infinity;
+  /** Estimated distance from the steady state, relative to the scales. */
+  remaining = Infinity;
 
   constructor(private readonly scales: readonly number[], private readonly tolerance: number, private readonly maxCycles: number) {}
 
@@ -30,9 +33,14 @@ export class OrbitTracker {
     const k = h.length - 1;
     if (k >= 1) {
       const change = this.distance(h[k]!, h[k - 1]!);
+      const previous = this.changes[this.changes.length - 1];
       this.lastChange = change;
       this.changes.push(change);
-      this.settledHits = change < this.tolerance ? this.settledHits + 1 : 0;
+      // Distance still to go, if the changes keep shrinking by ρ per cycle: change·ρ/(1 − ρ) plus
+      // this cycle's change. ρ is clipped at 0.99 so that solver noise cannot block the verdict.
+      const rho = previous && previous > 0 ? Math.min(0.99, Math.max(0, change / previous)) : 0;
+      this.remaining = change / (1 - rho);
+      this.settledHits = this.remaining < this.tolerance ? this.settledHits + 1 : 0;
       if (this.settledHits >= 2) return 'settled';
       for (let p = 2; p <= 4; p++) {
         if (k < p) continue;

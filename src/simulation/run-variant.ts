@@ -12,6 +12,7 @@ import { OdexSegmentIntegrator } from '../solver/odex-segment.js';
 import type { SegmentIntegrator } from '../solver/segment.js';
 import { OrbitTracker, type OrbitKind } from './orbit.js';
 import { CycleRecorder } from './recorder.js';
+import { SettlingExtrapolator } from './extrapolate.js';
 import { storedEnergy } from '../model/power.js';
 
 export class SimulationFailure extends Error {}
@@ -43,6 +44,8 @@ export interface RunOptions {
   deadlineMs?: number;
   /** Starting state [ip, im, vd, vc, vs]; by default the hand-formula clamp voltage and Vin on the damper. */
   initialState?: number[];
+  /** Jump ahead along the slowest mode while settling (default true). */
+  extrapolate?: boolean;
 }
 
 const MAX_EVENTS_PER_CYCLE = 20_000;
@@ -170,9 +173,11 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     }
   };
 
+  const extrapolator = new SettlingExtrapolator(scales, options.extrapolate ?? true);
   while (verdict === null) {
     verdict = tracker.push(x);
     if (verdict !== null) break;
+    x = extrapolator.next(x);
     runCycle(false);
     cycles++;
     if (cycles % 16 === 0) checkDeadline();
