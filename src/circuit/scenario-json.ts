@@ -26,6 +26,7 @@ export function scenarioToJson(s: Scenario): ScenarioJson {
   };
   if (s.clamp) out.clamp = { ...s.clamp };
   if (s.damper) out.damper = { ...s.damper };
+  if (s.design) out.design = structuredClone(s.design);
   return out;
 }
 

@@ -20,8 +20,44 @@ export interface Scenario {
   };
   clamp?: ClampParts;
   damper?: DamperParts;
+  /** Targets for `flyclamp design`; ignored by `simulate`. */
+  design?: DesignTargets;
   simulation: SimulationSettings;
 }
+
+export const PREFERRED_SERIES = ['E12', 'E24', 'E96'] as const;
+export type PreferredSeriesName = (typeof PREFERRED_SERIES)[number];
+
+export interface DesignTargets {
+  /** Input range, V; the worst case is the top. Both default to supply.voltage. */
+  inputVoltageMinimum?: number;
+  inputVoltageMaximum?: number;
+  /** Leakage inductance spread as a fraction (0.2 for ±20 %); the worst case is the top. */
+  leakageTolerance: number;
+  /** Peak drain voltage allowed, as a fraction of the rating (0.8: common practice). */
+  drainDerating: number;
+  clampRippleMinimum: number;
+  clampRippleMaximum: number;
+  resistorSeries: PreferredSeriesName;
+  capacitorSeries: PreferredSeriesName;
+  /** °C, for the resistor power derating. */
+  ambientTemperature: number;
+  /** Damper capacitor as a multiple of the drain capacitance. */
+  damperCapacitanceRatio: number;
+  /** Ring measured on a sample, alone and with a known capacitor added across drain-source. */
+  measuredRing?: { frequency: number; frequencyWithAddedCapacitor: number; addedCapacitance: number };
+}
+
+export const DEFAULT_DESIGN: Omit<DesignTargets, 'inputVoltageMinimum' | 'inputVoltageMaximum' | 'measuredRing'> = {
+  leakageTolerance: 0.2,
+  drainDerating: 0.8,
+  clampRippleMinimum: 0.05,
+  clampRippleMaximum: 0.1,
+  resistorSeries: 'E24',
+  capacitorSeries: 'E12',
+  ambientTemperature: 50,
+  damperCapacitanceRatio: 4,
+};
 
 export type SwitchControl =
   | { kind: 'peak-current'; peakCurrent: number; maxDutyCycle: number }

@@ -2,7 +2,7 @@
 // list of issues, each naming its field path, what was expected and what was found.
 
 import { parseSiNumber } from './si-number.js';
-import { DEFAULT_SIMULATION, reflectedVoltage, type Scenario, type SimulationSettings } from './scenario.js';
+import { DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type DesignTargets, type Scenario, type SimulationSettings } from './scenario.js';
 
 export interface ValidationIssue { path: string; message: string }
 
@@ -10,12 +10,13 @@ export type ValidationResult =
   | { ok: true; scenario: Scenario; warnings: ValidationIssue[] }
   | { ok: false; issues: ValidationIssue[] };
 
-type Range = 'positive' | 'non-negative' | 'fraction' | 'whole';
+type Range = 'positive' | 'non-negative' | 'fraction' | 'whole' | 'any';
 
 interface NumberField { kind: 'number'; unit: string; range: Range; optional?: number | 'absent'; bounds?: [number, number] }
 interface TextField { kind: 'text' }
+interface ChoiceField { kind: 'choice'; options: readonly string[]; optional: string }
 interface BlockSpec { kind: 'block'; optional: boolean; fields: Record<string, FieldSpec> }
-type FieldSpec = NumberField | TextField | BlockSpec;
+type FieldSpec = NumberField | TextField | ChoiceField | BlockSpec;
 
 const num = (unit: string, range: Range, optional?: number | 'absent'): NumberField =>
   optional === undefined ? { kind: 'number', unit, range } : { kind: 'number', unit, range, optional };
@@ -49,6 +50,23 @@ const SCENARIO_SPEC: BlockSpec = block({
     diodeDrop: num('V', 'non-negative', 1.0),
   }, true),
   damper: block({ resistance: num('Ω', 'positive'), capacitance: num('F', 'positive') }, true),
+  design: block({
+    inputVoltageMinimum: num('V', 'positive', 'absent'),
+    inputVoltageMaximum: num('V', 'positive', 'absent'),
+    leakageTolerance: setting('non-negative', DEFAULT_DESIGN.leakageTolerance, [0, 0.9]),
+    drainDerating: setting('fraction', DEFAULT_DESIGN.drainDerating, [0.3, 1]),
+    clampRippleMinimum: setting('fraction', DEFAULT_DESIGN.clampRippleMinimum, [0.001, 0.5]),
+    clampRippleMaximum: setting('fraction', DEFAULT_DESIGN.clampRippleMaximum, [0.001, 0.5]),
+    resistorSeries: { kind: 'choice', options: PREFERRED_SERIES, optional: DEFAULT_DESIGN.resistorSeries },
+    capacitorSeries: { kind: 'choice', options: PREFERRED_SERIES, optional: DEFAULT_DESIGN.capacitorSeries },
+    ambientTemperature: { kind: 'number', unit: '', range: 'any', optional: DEFAULT_DESIGN.ambientTemperature, bounds: [-40, 150] },
+    damperCapacitanceRatio: setting('positive', DEFAULT_DESIGN.damperCapacitanceRatio, [1, 20]),
+    measuredRing: block({
+      frequency: num('Hz', 'positive'),
+      frequencyWithAddedCapacitor: num('Hz', 'positive'),
+      addedCapacitance: num('F', 'positive'),
+    }, true),
+  }, true),
   simulation: block({
     relativeTolerance: setting('positive', DEFAULT_SIMULATION.relativeTolerance, [1e-12, 1e-3]),
     settleTolerance: setting('positive', DEFAULT_SIMULATION.settleTolerance, [1e-12, 1e-2]),
@@ -63,6 +81,7 @@ const RANGE_TEXT: Record<Range, string> = {
   'non-negative': '0 or more',
   fraction: 'between 0 and 1 (exclusive)',
   whole: '1 or more (a whole number)',
+  any: 'of any sign',
 };
 const rangeText = (field: NumberField): string =>
   field.bounds ? `${field.range === 'whole' ? 'a whole number' : 'a value'} from ${field.bounds[0]} to ${field.bounds[1]}` : `a value ${RANGE_TEXT[field.range]}`;
@@ -84,6 +103,7 @@ function inRange(value: number, range: Range): boolean {
     case 'non-negative': return value >= 0;
     case 'fraction': return value > 0 && value < 1;
     case 'whole': return Number.isInteger(value) && value >= 1;
+    case 'any': return true;
   }
 }
 
@@ -109,6 +129,12 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
       if (value === undefined && field.optional) continue;
       const inner = readBlock(field, value === undefined ? undefined : value, fieldPath, issues);
       if (inner) out[key] = inner;
+      continue;
+    }
+    if (field.kind === 'choice') {
+      if (value === undefined) out[key] = field.optional;
+      else if (typeof value === 'string' && field.options.includes(value)) out[key] = value;
+      else issues.push({ path: fieldPath, message: `expected one of ${field.options.join(', ')}, found ${describe(value)}` });
       continue;
     }
     if (field.kind === 'text') {
@@ -182,6 +208,21 @@ export function validateScenario(input: unknown): ValidationResult {
     },
     simulation: (raw.simulation as unknown as SimulationSettings | undefined) ?? { ...DEFAULT_SIMULATION },
   };
+  if (raw.design) {
+    const d = raw.design as Record<string, unknown>;
+    const design = { ...d } as unknown as DesignTargets;
+    scenario.design = design;
+    if (design.clampRippleMinimum > design.clampRippleMaximum) {
+      issues.push({ path: 'design.clampRippleMinimum', message: `expected at most design.clampRippleMaximum (${design.clampRippleMaximum}), found ${design.clampRippleMinimum}` });
+    }
+    if (design.inputVoltageMinimum !== undefined && design.inputVoltageMaximum !== undefined && design.inputVoltageMinimum > design.inputVoltageMaximum) {
+      issues.push({ path: 'design.inputVoltageMinimum', message: `expected at most design.inputVoltageMaximum (${design.inputVoltageMaximum} V), found ${design.inputVoltageMinimum} V` });
+    }
+    const ring = design.measuredRing;
+    if (ring && ring.frequencyWithAddedCapacitor >= ring.frequency) {
+      issues.push({ path: 'design.measuredRing.frequencyWithAddedCapacitor', message: `expected a frequency below design.measuredRing.frequency (${ring.frequency} Hz): an added capacitor lowers the ring, found ${ring.frequencyWithAddedCapacitor} Hz` });
+    }
+  }
   if (clamp) scenario.clamp = { resistance: clamp.resistance!, capacitance: clamp.capacitance!, diodeDrop: clamp.diodeDrop! };
   if (damper) scenario.damper = { resistance: damper.resistance!, capacitance: damper.capacitance! };
 
