@@ -50,15 +50,23 @@ export interface VariantMetrics {
 /**
  * Ring frequency right after turn-off: spacing of successive drain maxima while the drain node
  * is free and the output diode conducts (the leakage inductance against the drain capacitance).
- * The median spacing of the first few is used, so that one crest bent by a body-diode or
- * output-diode interval does not move the result.
+ * Only crests standing at least 10 % of the first crest's height above the ring's centre
+ * (Vin + VR) count: below that their timing is solver noise. The median spacing is used, so that
+ * one crest bent by a body-diode or output-diode interval does not move the result. Null when
+ * fewer than two crests qualify (a ring damped within about a period).
  */
-export function ringFrequencyAfterTurnOff(cycle: CycleRecord): number | null {
-  const times = cycle.drainMaxima
+export function ringFrequencyAfterTurnOff(cycle: CycleRecord, ringCentreVoltage: number): number | null {
+  const crests = cycle.drainMaxima
     .filter((m) => m.mode === 'free+out' && m.timeSeconds > cycle.turnOffSeconds)
-    .map((m) => m.timeSeconds)
-    .sort((a, b) => a - b)
-    .slice(0, 7);
+    .sort((a, b) => a.timeSeconds - b.timeSeconds);
+  const first = crests[0];
+  if (!first) return null;
+  const floor = 0.1 * (first.voltage - ringCentreVoltage);
+  const times: number[] = [];
+  for (const c of crests) {
+    if (times.length >= 7 || !(c.voltage - ringCentreVoltage > floor)) break;
+    times.push(c.timeSeconds);
+  }
   if (times.length < 2) return null;
   const spacings = times.slice(1).map((t, i) => t - times[i]!).sort((a, b) => a - b);
   const mid = spacings.length >> 1;
@@ -85,7 +93,7 @@ export function variantMetrics(run: VariantRun, voltageRating: number): VariantM
   const metrics: VariantMetrics = {
     peakDrainVoltage,
     marginToRating: voltageRating - peakDrainVoltage,
-    ringFrequency: ringFrequencyAfterTurnOff(last),
+    ringFrequency: ringFrequencyAfterTurnOff(last, p.supplyVoltage + p.reflectedVoltage),
     settled: run.orbit === 'settled',
     orbit: run.orbit,
     cycles: run.cycles,

@@ -171,18 +171,22 @@ const join = (path: string, key: string): string => (path ? `${path}.${key}` : k
 export function validateScenario(input: unknown): ValidationResult {
   const issues: ValidationIssue[] = [];
   const raw = readBlock(SCENARIO_SPEC, input, '', issues) as Record<string, Plain> | undefined;
+  // The choice of control is checked on the raw input, so that it is reported with the rest.
+  const rawSwitch = (typeof input === 'object' && input !== null ? (input as Plain).switch : undefined) as Plain | undefined;
+  if (rawSwitch && typeof rawSwitch === 'object') {
+    const hasPeak = rawSwitch.peakCurrent !== undefined, hasDuty = rawSwitch.dutyCycle !== undefined;
+    if (hasPeak === hasDuty) {
+      issues.push({
+        path: hasPeak ? 'switch.dutyCycle' : 'switch.peakCurrent',
+        message: `expected exactly one of switch.peakCurrent (peak-current control) and switch.dutyCycle (fixed duty), found ${hasPeak ? 'both' : 'neither'}`,
+      });
+    }
+  }
   if (!raw || issues.length > 0) return { ok: false, issues };
 
   const sw = raw.switch as Plain;
   const peakCurrent = sw.peakCurrent as number | undefined;
   const dutyCycle = sw.dutyCycle as number | undefined;
-  if ((peakCurrent === undefined) === (dutyCycle === undefined)) {
-    issues.push({
-      path: 'switch.peakCurrent',
-      message: `expected exactly one of switch.peakCurrent (peak-current control) and switch.dutyCycle (fixed duty), found ${peakCurrent === undefined ? 'neither' : 'both'}`,
-    });
-    return { ok: false, issues };
-  }
   const n = raw.transformer as Record<string, number>;
   const clamp = raw.clamp as Record<string, number> | undefined;
   const damper = raw.damper as Record<string, number> | undefined;

@@ -14,7 +14,7 @@ const ROWS: Row[] = [
   ['peak drain voltage', (m) => volts(m.peakDrainVoltage)],
   ['margin to rating', (m) => volts(m.marginToRating) + (m.marginToRating < 0 ? '  OVER' : '')],
   ['margin to derated limit', (m) => volts(m.marginToDeratedLimit) + (m.marginToDeratedLimit < 0 ? '  OVER' : '')],
-  ['ring frequency after turn-off', (m) => si('Hz')(m.ringFrequency)],
+  ['ring frequency after turn-off', (m) => (m.ringFrequency === null ? 'none (damped out)' : formatSi(m.ringFrequency, 'Hz'))],
   ['clamp voltage (mean, above rail)', (m) => volts(m.clampVoltageMean)],
   ['clamp ripple (peak-to-peak)', (m) => (m.clampVoltageRipple === undefined ? '—'
     : `${volts(m.clampVoltageRipple)} (${((100 * m.clampVoltageRipple) / m.clampVoltageMean!).toFixed(1)} %)`)],

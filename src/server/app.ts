@@ -4,7 +4,7 @@
 import express, { type NextFunction, type Request, type Response } from 'express';
 import { readdir, readFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
-import { join } from 'node:path';
+import { join, resolve } from 'node:path';
 import { createRequire } from 'node:module';
 import { createPool } from '../workers/create-pool.js';
 import { validateScenario, type ValidationIssue } from '../circuit/validate-scenario.js';
@@ -35,7 +35,14 @@ class HttpError extends Error {
   constructor(readonly status: number, message: string, readonly issues?: ValidationIssue[]) { super(message); }
 }
 
-export function createServer(options: ServerOptions): FlyclampServer {
+export function createServer(given: ServerOptions): FlyclampServer {
+  // sendFile wants absolute paths; callers may pass paths relative to the working folder.
+  const options: ServerOptions = {
+    ...given,
+    scenariosDir: resolve(given.scenariosDir),
+    webDir: resolve(given.webDir),
+    ...(given.readmeFile ? { readmeFile: resolve(given.readmeFile) } : {}),
+  };
   const runTimeCapMs = options.runTimeCapMs ?? 20_000;
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
   // Admission is counted here rather than left to the pool's queue, so "busy" is exact.
@@ -79,7 +86,7 @@ export function createServer(options: ServerOptions): FlyclampServer {
       const status = /time cap/.test(result.failure) ? 504 : 422;
       throw new HttpError(status, `simulation failed: ${result.failure}`);
     }
-    res.json(result);
+    res.json({ ...result, warnings: task.warnings });
   });
 
   app.use('/api', (_req, _res, next) => next(new HttpError(404, 'no such API route')));
@@ -107,7 +114,7 @@ export function createServer(options: ServerOptions): FlyclampServer {
   return { app, close: () => pool.destroy() };
 }
 
-function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask {
+function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & { warnings: ValidationIssue[] } {
   if (typeof body !== 'object' || body === null || Array.isArray(body)) {
     throw new HttpError(400, 'invalid request', [{ path: 'body', message: `expected a JSON object with a "scenario" field, found ${Array.isArray(body) ? 'a list' : typeof body}` }]);
   }
@@ -140,7 +147,7 @@ function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask {
     throw new HttpError(400, 'invalid request', [{ path: 'body.variants', message: `expected variants this scenario supports (${supported.join(', ')}), found ${missing.join(', ')}` }]);
   }
   return {
-    scenario, variants: wanted, columns: (columns as number | undefined) ?? 1500,
+    scenario, variants: wanted, columns: (columns as number | undefined) ?? 1500, warnings: validated.warnings,
     deadlineMs: Date.now() + runTimeCapMs,
     ...(win ? { window: win } : {}),
   };

@@ -1,5 +1,5 @@
-// Classifies the sequence of period-start states: settled (estimated within the tolerance of a
-// fixed point, from the change per cycle and its rate of decrease), a period-p orbit
+// Classifies the sequence of period-start states: settled (the change per cycle below the
+// tolerance, and the estimated distance still to go too), a period-p orbit
 // (peak-current control above 50 % duty in continuous conduction doubles its period), or
 // non-periodic. Distances are max-norms of the change, each component divided by its scale.
 
@@ -12,9 +12,10 @@ export class OrbitTracker {
   private readonly changes: number[] = [];
   private readonly periodicHits = [0, 0, 0, 0, 0];
   private settledHits = 0;
+  private pushes = 0;
   /** Latest cycle-to-cycle change, relative to the scales. */
   lastChange = Infinity;
-  /** Estimated distance from the steady state, relative to the scales. */
+  /** Estimated distance from the steady state, relative to the scales (the change itself when not contracting). */
   remaining = Infinity;
 
   constructor(private readonly scales: readonly number[], private readonly tolerance: number, private readonly maxCycles: number) {}
@@ -25,23 +26,38 @@ export class OrbitTracker {
     return d;
   }
 
+  /**
+   * The cycle loop moved the latest state (an extrapolation jump): the next change is measured
+   * from the new state, and the rate of decrease is estimated afresh.
+   */
+  replaceLatest(state: readonly number[]): void {
+    if (this.history.length > 0) this.history[this.history.length - 1] = [...state];
+    this.history.splice(0, this.history.length - 1);
+    this.changes.length = 0;
+    this.settledHits = 0;
+    this.periodicHits.fill(0);
+  }
+
   /** Adds the state at the start of a new cycle; returns a verdict, or null to keep going. */
   push(startState: readonly number[]): OrbitKind | null {
+    this.pushes++;
     const h = this.history;
     h.push([...startState]);
     if (h.length > 5) h.shift();
     const k = h.length - 1;
     if (k >= 1) {
       const change = this.distance(h[k]!, h[k - 1]!);
-      const previous = this.changes[this.changes.length - 1];
       this.lastChange = change;
       this.changes.push(change);
-      // Distance still to go, if the changes keep shrinking by ρ per cycle: change·ρ/(1 − ρ) plus
-      // this cycle's change. ρ is clipped at 0.99 so that solver noise cannot block the verdict.
-      const rho = previous && previous > 0 ? Math.min(0.99, Math.max(0, change / previous)) : 0;
-      this.remaining = change / (1 - rho);
-      this.settledHits = this.remaining < this.tolerance ? this.settledHits + 1 : 0;
-      if (this.settledHits >= 2) return 'settled';
+      // Settled: the change stayed below the tolerance three cycles running, and the distance
+      // still to go is small too. The contraction per cycle ρ is estimated over three cycles; when
+      // it is near 1 the change has reached a floor (solver noise, a lossless ring) and the change
+      // itself is the measure; otherwise the rest of the geometric tail, change·ρ/(1 − ρ), counts.
+      const older = this.changes[this.changes.length - 4];
+      const rho = older !== undefined && older > 0 ? (change / older) ** (1 / 3) : 1;
+      this.remaining = rho < 0.98 ? change + (change * rho) / (1 - rho) : change;
+      this.settledHits = change < this.tolerance ? this.settledHits + 1 : 0;
+      if (this.settledHits >= 3 && this.remaining < this.tolerance) return 'settled';
       for (let p = 2; p <= 4; p++) {
         if (k < p) continue;
         const recurs = this.distance(h[k]!, h[k - p]!) < this.tolerance;
@@ -50,6 +66,8 @@ export class OrbitTracker {
         // change that has stopped shrinking makes it an orbit of its own.
         const earlier = this.changes[this.changes.length - 1 - 2 * p];
         const stalled = earlier !== undefined && change >= 0.95 * earlier;
+        // …and the alternate states must differ clearly, not by noise below the tolerance.
+        if (change < 10 * this.tolerance) continue;
         if (this.periodicHits[p]! >= p + 1 && stalled) return `period-${p}` as OrbitKind;
       }
     }
@@ -59,7 +77,7 @@ export class OrbitTracker {
       const before = Math.min(...this.changes.slice(n - 2 * STALL_WINDOW, n - STALL_WINDOW));
       if (recent > 0.9 * before) return 'non-periodic';
     }
-    if (n + 1 >= this.maxCycles) return 'cycle-cap';
+    if (this.pushes >= this.maxCycles) return 'cycle-cap';
     return null;
   }
 }

@@ -78,13 +78,17 @@ export class CycleRecorder {
 
   get done(): boolean { return this.cycles.length >= this.cycleCount; }
 
-  /** `storedEnergyBefore` is taken before the switch-on discharge of Coss, which `turnOnLoss` counts. */
-  startCycle(entry: ModeEntry, x: readonly number[], turnOnLoss: number, storedEnergyBefore: number): void {
+  /**
+   * `before` is the state just before the switch turns on (the previous cycle's end); `entry`/`x`
+   * just after. Stored energy is taken before, since `turnOnLoss` counts the Coss discharge, and
+   * every cycle-boundary sample is the left limit, the first one included.
+   */
+  startCycle(before: { entry: ModeEntry; x: readonly number[] }, entry: ModeEntry, x: readonly number[], turnOnLoss: number): void {
     this.cycleIndex++;
     this.current = {
       energy: new Array<number>(POWER_TERMS.length).fill(0),
       turnOnLoss,
-      storedEnergyStart: storedEnergyBefore,
+      storedEnergyStart: storedEnergy(this.params, before.entry, before.x),
       storedEnergyEnd: 0,
       clampVoltageIntegral: 0,
       drainVoltage: { max: -Infinity, min: Infinity },
@@ -96,7 +100,7 @@ export class CycleRecorder {
       turnOffCause: 'fixed-duty',
       outputDiodeOnAtEnd: false,
     };
-    if (this.cycleIndex === 0) this.writeSample(0, entry, x);
+    if (this.cycleIndex === 0) this.writeSample(0, before.entry, before.x);
     this.point(entry, x);
   }
 

@@ -13,7 +13,6 @@ import type { SegmentIntegrator } from '../solver/segment.js';
 import { OrbitTracker, type OrbitKind } from './orbit.js';
 import { CycleRecorder } from './recorder.js';
 import { SettlingExtrapolator } from './extrapolate.js';
-import { storedEnergy } from '../model/power.js';
 
 export class SimulationFailure extends Error {}
 
@@ -107,13 +106,14 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     // Switch on: Coss dumps ½·Coss·vd² into the channel.
     const entryBefore = model.entry(mode);
     const vdBefore = evaluate(entryBefore.forms.drainVoltage, x);
-    const storedBefore = recording ? storedEnergy(params, entryBefore, x) : 0;
+    const before = recording ? { entry: entryBefore, x: [...x] } : null;
     mode = { drain: 'switch', outputDiodeOn: mode.outputDiodeOn };
     let entry = model.enter(mode, x);
     const vdAfter = evaluate(entry.forms.drainVoltage, x);
+    // The difference, not ½·Coss·vd² alone: in CCM the channel holds Ron·ip right after turn-on.
     const turnOnLoss = 0.5 * params.drainCapacitance * (vdBefore * vdBefore - vdAfter * vdAfter);
     entry = resolveInstant(entry, x, new Set<DeviceName>(['switch']));
-    if (recording) recorder.startCycle(entry, x, turnOnLoss, storedBefore);
+    if (before) recorder.startCycle(before, entry, x, turnOnLoss);
     let t = 0;
     let eventsThisCycle = 0;
     const observer = recording
@@ -128,7 +128,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
           system: entry.system, t0: t, x0: x, tEnd,
           events: entry.events.map((e) => e.g),
           initialStep: lastStepByMode.get(key) ?? ringPeriod / 50,
-          maxStep: ringPeriod,
+          maxStep: ringPeriod / 2,
           ...(observer ? { observer } : {}),
         });
         stats.derivativeEvaluations += result.evaluations;
@@ -177,7 +177,9 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   while (verdict === null) {
     verdict = tracker.push(x);
     if (verdict !== null) break;
+    const jumpsBefore = extrapolator.jumps;
     x = extrapolator.next(x);
+    if (extrapolator.jumps !== jumpsBefore) tracker.replaceLatest(x);
     runCycle(false);
     cycles++;
     if (cycles % 16 === 0) checkDeadline();

@@ -25,7 +25,7 @@ export class OdexSegmentIntegrator implements SegmentIntegrator {
     this.solver.relativeTolerance = settings.relativeTolerance;
     this.solver.absoluteTolerance = [...settings.absoluteTolerance];
     this.solver.maxSteps = settings.maxStepsPerSegment ?? 200_000;
-    this.samplesPerStep = settings.eventSamplesPerStep ?? 8;
+    this.samplesPerStep = settings.eventSamplesPerStep ?? 12;
   }
 
   integrate(problem: SegmentProblem): SegmentResult {

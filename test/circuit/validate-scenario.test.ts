@@ -161,7 +161,7 @@ describe('validateScenario field rules', () => {
 
   it('validateScenario rejects both switch.peakCurrent and switch.dutyCycle, saying "both"', () => {
     const issues = issuesAfter(bias(), (d) => { d.switch.dutyCycle = 0.2; });
-    expectIssue(issues, 'switch.peakCurrent', 'expected exactly one of switch.peakCurrent', 'switch.dutyCycle', 'found both');
+    expectIssue(issues, 'switch.dutyCycle', 'expected exactly one of switch.peakCurrent', 'switch.dutyCycle', 'found both');
   });
 
   it('validateScenario rejects neither switch.peakCurrent nor switch.dutyCycle, saying "neither"', () => {
@@ -320,5 +320,17 @@ describe('validateScenario reporting and defaults', () => {
     const { scenario } = accepted(doc);
     expect('clamp' in scenario).toBe(false);
     expect('damper' in scenario).toBe(false);
+  });
+});
+
+describe('validateScenario reports the control choice together with other mistakes', () => {
+  it('an unparsable field and a missing control are both reported', () => {
+    const raw = JSON.parse(readFileSync('scenarios/bias-48v.json', 'utf8')) as Record<string, Record<string, unknown>>;
+    delete raw.switch!.peakCurrent;
+    raw.clamp!.resistance = 'lots';
+    const result = validateScenario(raw);
+    expect(result.ok).toBe(false);
+    const paths = result.ok ? [] : result.issues.map((i) => i.path);
+    expect(paths).toEqual(expect.arrayContaining(['clamp.resistance', 'switch.peakCurrent']));
   });
 });
