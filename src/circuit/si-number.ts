@@ -1,10 +1,12 @@
 // Values in scenario files, flags and form fields: a plain number in SI units, or a string with
 // an SI prefix and optionally the field's unit ("2.2u", "2.2uH", "150k", "100kHz").
 
-const PREFIX_MULTIPLIER: Readonly<Record<string, number>> = {
-  f: 1e-15, p: 1e-12, n: 1e-9, u: 1e-6, 'µ': 1e-6, 'μ': 1e-6, m: 1e-3,
-  k: 1e3, M: 1e6, G: 1e9,
+/** Powers of ten by prefix; applied by division for the small ones so "25u" is the double nearest 25e-6. */
+const PREFIX_EXPONENT: Readonly<Record<string, number>> = {
+  f: -15, p: -12, n: -9, u: -6, 'µ': -6, 'μ': -6, m: -3,
+  k: 3, M: 6, G: 9,
 };
+const scaleByPowerOfTen = (x: number, exponent: number): number => (exponent < 0 ? x / 10 ** -exponent : x * 10 ** exponent);
 
 /** Spellings accepted for each unit symbol (the first is the canonical one). */
 const UNIT_SPELLINGS: Readonly<Record<string, readonly string[]>> = {
@@ -32,17 +34,18 @@ export function parseSiNumber(input: unknown, unit: string): ParsedNumber {
   if (!match) return { ok: false, expected };
   const mantissa = Number(match[1]);
   const suffix = match[2] ?? '';
-  const multiplier = suffixMultiplier(suffix, unit);
-  if (multiplier === undefined || !Number.isFinite(mantissa)) return { ok: false, expected };
-  return { ok: true, value: mantissa * multiplier };
+  const exponent = suffixExponent(suffix, unit);
+  if (exponent === undefined || !Number.isFinite(mantissa)) return { ok: false, expected };
+  const value = scaleByPowerOfTen(mantissa, exponent);
+  return Number.isFinite(value) ? { ok: true, value } : { ok: false, expected };
 }
 
-function suffixMultiplier(suffix: string, unit: string): number | undefined {
+function suffixExponent(suffix: string, unit: string): number | undefined {
   const spellings = UNIT_SPELLINGS[unit] ?? [];
   const isUnit = (s: string): boolean => s === '' || spellings.includes(s);
-  if (isUnit(suffix)) return 1;
-  for (const [prefix, multiplier] of Object.entries(PREFIX_MULTIPLIER)) {
-    if (suffix.startsWith(prefix) && isUnit(suffix.slice(prefix.length))) return multiplier;
+  if (isUnit(suffix)) return 0;
+  for (const [prefix, exponent] of Object.entries(PREFIX_EXPONENT)) {
+    if (suffix.startsWith(prefix) && isUnit(suffix.slice(prefix.length))) return exponent;
   }
   return undefined;
 }

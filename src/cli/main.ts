@@ -5,6 +5,7 @@ import { Command, CommanderError, Option } from 'commander';
 import { runSimulateCommand } from './simulate-command.js';
 import { DEFAULT_PORT, runServeCommand } from './serve-command.js';
 import { runSweepCommand, type SweepOptions } from './sweep-command.js';
+import { runDesignCommand } from './design-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
 
 const program = new Command('flyclamp')
@@ -21,6 +22,15 @@ program.command('simulate')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
   .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped' }) => {
     await runSimulateCommand(file, options);
+  });
+
+program.command('design')
+  .description('design the RCD clamp and RC damper from published equations and verify them by simulation')
+  .argument('<file>', 'scenario JSON file (with an optional "design" block)')
+  .option('--json', 'print one JSON object instead of the table')
+  .option('--report <file.html>', 'write a self-contained HTML report')
+  .action(async (file: string, options: { json?: boolean; report?: string }) => {
+    await runDesignCommand(file, options);
   });
 
 const collect = (value: string, previous: string[]): string[] => [...previous, value];

@@ -1,0 +1,72 @@
+import { loadScenarioFile } from '../circuit/load-scenario.js';
+import { formatIssues } from '../circuit/validate-scenario.js';
+import { formatSi } from '../circuit/si-number.js';
+import { designClamp, type DesignResult } from '../design/design-clamp.js';
+import { DesignImpossible } from '../design/hand-design.js';
+import { designReportHtml } from '../design/design-report-html.js';
+import { SimulationFailure } from '../simulation/run-variant.js';
+import { BadInput, SimulationFailed } from './cli-errors.js';
+import { checkOutputPath, OutputPathError, writeFileAtomic } from './write-atomic.js';
+
+export interface DesignOptions { json?: boolean; report?: string }
+
+export async function runDesignCommand(file: string, options: DesignOptions): Promise<void> {
+  const loaded = await loadScenarioFile(file);
+  if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
+  if (options.report) {
+    if (!/\.html?$/i.test(options.report)) throw new BadInput(`--report: expected a file name ending in .html, found ${options.report}`);
+    await outputGuard(() => checkOutputPath(options.report!, [file]));
+  }
+  let result: ReturnType<typeof designClamp>;
+  try {
+    result = designClamp(loaded.scenario);
+  } catch (error) {
+    if (error instanceof DesignImpossible || error instanceof SimulationFailure) throw new SimulationFailed(error.message);
+    throw error;
+  }
+  const { worstCaseRuns, ...json } = result;
+  process.stdout.write(options.json ? `${JSON.stringify(json, null, 2)}\n` : `${designTable(json)}\n`);
+  if (options.report) {
+    await outputGuard(() => writeFileAtomic(options.report!, designReportHtml(loaded.scenario, json, worstCaseRuns), [file]));
+    if (!options.json) process.stdout.write(`Report written to ${options.report}\n`);
+  }
+}
+
+async function outputGuard<T>(fn: () => Promise<T>): Promise<T> {
+  try { return await fn(); } catch (error) {
+    if (error instanceof OutputPathError) throw new BadInput(`--report ${error.message}`);
+    throw error;
+  }
+}
+
+const v = (x: number | undefined, unit: string): string => (x === undefined ? '—' : formatSi(x, unit));
+
+export function designTable(d: DesignResult): string {
+  const h = d.hand;
+  const lines: string[] = [
+    `Clamp design for: ${d.scenario}`,
+    `Worst case: Vin ${v(h.worstCase.supplyVoltage, 'V')}, Llk ${v(h.worstCase.leakageInductance, 'H')} (+${(100 * h.targets.leakageTolerance).toFixed(0)} %), Ipk ${v(h.worstCase.peakCurrent, 'A')}; derated limit ${v(h.deratedLimit, 'V')} (${(100 * h.targets.drainDerating).toFixed(0)} % of the rating)`,
+  ];
+  if (h.extracted) lines.push(`From the measured ring: Coss ${v(h.extracted.drainCapacitance, 'F')}, Llk ${v(h.extracted.leakageInductance, 'H')}, Z0 ${v(h.extracted.characteristicImpedance, 'Ω')} (replace the scenario's values)`);
+  lines.push('', 'Equations');
+  for (const e of h.equations) lines.push(`  ${e.quantity.padEnd(42)} ${e.formula.padEnd(46)} ${v(e.value, e.unit).padStart(11)}   [${e.source}]`);
+  lines.push('', 'Chosen parts (paste into the scenario file)', `  "clamp": ${JSON.stringify(d.clamp)}`, `  "damper": ${JSON.stringify(d.damper)}`);
+  for (const a of d.adjustments) lines.push(`  adjusted: R = ${v(a.resistance, 'Ω')} (worst-case peak ${v(a.worstCasePeak, 'V')}): ${a.reason}`);
+  lines.push('', 'Part stresses (worst case, simulated)');
+  for (const s of d.stresses) {
+    const arr = s.arrangement ? (s.arrangement.ok
+      ? `${s.arrangement.count} × ${s.arrangement.caseName} of ${v(s.arrangement.resistancePerResistor, 'Ω')} in series, ${v(s.arrangement.powerPerResistor, 'W')} and ${v(s.arrangement.voltagePerResistor, 'V')} each${s.arrangement.hotSpot ? ' (hot spot: over 0.1 W per part)' : ''}`
+      : `no chip arrangement: ${s.arrangement.reason}`) : '';
+    const rating = s.suggestedRating ? `rated ≥ ${v(s.suggestedRating, 'V')} (margin ${(100 * s.voltageMargin!).toFixed(0)} %)` : '';
+    lines.push(`  ${s.part.padEnd(16)} ${v(s.value, s.unit).padStart(9)}  working ${v(s.workingVoltage, 'V')}${s.power !== undefined ? `, ${v(s.power, 'W')}` : ''}${s.peakCurrent !== undefined ? `, peak ${v(s.peakCurrent, 'A')}` : ''}  ${rating}${arr}`);
+  }
+  lines.push('', 'Verification by settled simulation');
+  for (const [name, c] of [['worst case', d.verification.worstCase], ['nominal', d.verification.nominal]] as const) {
+    const peaks = (['bare', 'clamp', 'damped'] as const).map((k) => `${k} ${v(c.variants[k]?.peakDrainVoltage, 'V')}`).join(', ');
+    lines.push(`  ${name.padEnd(10)} Vin ${v(c.conditions.supplyVoltage, 'V')}, Llk ${v(c.conditions.leakageInductance, 'H')}: peaks ${peaks}; ${c.pass ? 'PASS' : 'FAIL'}, margin ${v(c.margin, 'V')}; clamp ${v(c.variants.clamp?.clampVoltageMean, 'V')} ± ${v((c.variants.clamp?.clampVoltageRipple ?? NaN) / 2, 'V')}, clamp R ${v(c.variants.clamp?.clampResistorPower, 'W')}, damper R ${v(c.variants.damped?.damperResistorPower, 'W')}`);
+  }
+  lines.push('', `Overall: ${d.pass ? 'PASS' : 'FAIL'} against the derated limit.`);
+  for (const n of d.notes) lines.push(`Note: ${n}`);
+  lines.push('', 'Design aid only, not compliance evidence: check parts against their datasheets and local codes. See the README, "Safety".');
+  return lines.join('\n');
+}

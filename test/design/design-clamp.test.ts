@@ -1,0 +1,126 @@
+import { describe, expect, it } from 'vitest';
+import { execFile } from 'node:child_process';
+import { mkdtemp, readFile, writeFile, readdir } from 'node:fs/promises';
+import { tmpdir } from 'node:os';
+import { join } from 'node:path';
+import { promisify } from 'node:util';
+import { handDesign, DesignImpossible } from '../../src/design/hand-design.js';
+import { designClamp, scenarioAtCorner } from '../../src/design/design-clamp.js';
+import { runVariant } from '../../src/simulation/run-variant.js';
+import { variantMetrics } from '../../src/analysis/variant-metrics.js';
+import { validateScenario } from '../../src/circuit/validate-scenario.js';
+import { ringFrequency } from '../../src/equations/ring-extraction.js';
+import { labScenario } from '../support/lab-scenarios.js';
+
+const run = promisify(execFile);
+
+// The lab circuit set up so that the clamp target is exactly the worked check value:
+// Vlimit = 0.8 × 312.5 V = 250 V, Vin = 100 V, Vf = 0 → Vc = 150 V; Llk = 10 µH (no spread),
+// Ipk = 1 A, fsw = 100 kHz, VR = 100 V → R = 15 kΩ, P = 1.5 W (AN-4147 equations, from memory;
+// the check values are the arithmetic of ../shared references).
+const worked = (design: Record<string, unknown> = {}) => labScenario({
+  switch: { voltageRating: 312.5 },
+  design: { leakageTolerance: 0, ...design },
+});
+
+describe('handDesign(scenario) against worked check values', () => {
+  it('targets Vc = 150 V and finds R = 15 kΩ, then 15 kΩ in E24 (rounded down)', () => {
+    const h = handDesign(worked());
+    expect(h.clampVoltageTarget).toBeCloseTo(150, 9);
+    expect(h.resistanceExact).toBeCloseTo(15e3, 6);
+    expect(h.resistance).toBeCloseTo(15e3, 6);
+    expect(h.equations.find((e) => e.quantity === 'clamp power')!.value).toBeCloseTo(1.5, 9);
+  });
+
+  it('rounds the resistor down and the capacitor up (both keep the drain lower)', () => {
+    const h = handDesign(worked({ drainDerating: 0.81 }));
+    expect(h.resistance).toBeLessThanOrEqual(h.resistanceExact);
+    expect(h.capacitance).toBeGreaterThanOrEqual(h.capacitanceExact);
+    // Ripple at most the maximum asked for: ΔVc/Vc = 1/(R·C·fsw) (AN-4147, from memory).
+    expect(1 / (h.resistance * h.capacitance * 1e5)).toBeLessThanOrEqual(h.targets.clampRippleMaximum + 1e-12);
+  });
+
+  it('designs the damper at the characteristic impedance and a few times Coss (Todd SEM-900; Severns)', () => {
+    const h = handDesign(worked());
+    expect(h.damper.resistanceExact).toBeCloseTo(Math.sqrt(10e-6 / 10e-12), 6); // 1 kΩ
+    expect(h.damper.capacitanceExact).toBeCloseTo(4 * 10e-12, 20);
+  });
+
+  it('uses the measured ring instead of the scenario values (added-capacitor method, Todd SEM-900)', () => {
+    // L = 10 µH, Cp = 100 pF ring at 5.033 MHz; 300 pF added halves it.
+    const f1 = ringFrequency(10e-6, 100e-12), f2 = ringFrequency(10e-6, 400e-12);
+    const h = handDesign(worked({ measuredRing: { frequency: f1, frequencyWithAddedCapacitor: f2, addedCapacitance: 300e-12 } }));
+    expect(h.extracted!.drainCapacitance).toBeCloseTo(100e-12, 20);
+    expect(h.extracted!.leakageInductance).toBeCloseTo(10e-6, 15);
+    expect(h.drainCapacitance).toBeCloseTo(100e-12, 20);
+  });
+
+  it('refuses a rating that leaves no room for the clamp above VR, saying why', () => {
+    expect(() => handDesign(worked({ drainDerating: 0.6 }))).toThrow(DesignImpossible);
+    expect(() => handDesign(worked({ drainDerating: 0.6 }))).toThrow(/no room for a clamp above VR/);
+  });
+});
+
+describe('designClamp(scenario) verification', () => {
+  it('its pass/fail and margins agree with a direct simulate of the chosen parts at each corner', async () => {
+    const { readFile: read } = await import('node:fs/promises');
+    const raw = JSON.parse(await read('scenarios/bias-48v.json', 'utf8')) as Record<string, unknown>;
+    raw.design = { inputVoltageMaximum: 60, leakageTolerance: 0.2 };
+    const validated = validateScenario(raw);
+    if (!validated.ok) throw new Error('invalid');
+    const s = validated.scenario;
+    const d = designClamp(s);
+    const parts = { r: d.clamp.resistance, c: d.clamp.capacitance, rs: d.damper.resistance, cs: d.damper.capacitance };
+    for (const key of ['worstCase', 'nominal'] as const) {
+      const corner = d.verification[key];
+      const direct = scenarioAtCorner(s, d.hand, corner.conditions, parts);
+      const peaks = (['clamp', 'damped'] as const).map((v) => variantMetrics(runVariant(direct, v), s.switch.voltageRating).peakDrainVoltage);
+      const worst = Math.max(...peaks);
+      expect(worst <= d.hand.deratedLimit, key).toBe(corner.pass);
+      expect(Math.abs(d.hand.deratedLimit - worst - corner.margin), key).toBeLessThan(1e-9);
+    }
+    expect(d.pass).toBe(d.verification.worstCase.pass && d.verification.nominal.pass);
+  }, 120_000);
+});
+
+describe('flyclamp design (CLI)', () => {
+  it('--json gives clamp and damper blocks that paste into a scenario, and verification per corner', async () => {
+    const out = JSON.parse((await run(process.execPath, ['dist/cli/main.js', 'design', 'scenarios/gate-drive-24v.json', '--json'])).stdout) as {
+      clamp: Record<string, number>; damper: Record<string, number>;
+      verification: Record<'worstCase' | 'nominal', { pass: boolean; margin: number; variants: Record<string, { peakDrainVoltage: number; settled: boolean }> }>;
+    };
+    const raw = JSON.parse(await readFile('scenarios/gate-drive-24v.json', 'utf8')) as Record<string, unknown>;
+    const pasted = validateScenario({ ...raw, clamp: out.clamp, damper: out.damper });
+    expect(pasted.ok).toBe(true);
+    for (const corner of ['worstCase', 'nominal'] as const) {
+      const c = out.verification[corner];
+      expect(typeof c.pass).toBe('boolean');
+      expect(Number.isFinite(c.margin)).toBe(true);
+      expect(Object.keys(c.variants)).toEqual(['bare', 'clamp', 'damped']);
+      expect(c.variants.clamp!.settled).toBe(true);
+    }
+  }, 60_000);
+
+  it('--report writes a self-contained HTML report (no external resources) and never over the input', async () => {
+    const dir = await mkdtemp(join(tmpdir(), 'flyclamp-design-'));
+    const scenarioFile = join(dir, 'bias.json');
+    await writeFile(scenarioFile, await readFile('scenarios/bias-48v.json', 'utf8'));
+    const report = join(dir, 'report.html');
+    await run(process.execPath, ['dist/cli/main.js', 'design', scenarioFile, '--report', report]);
+    const html = await readFile(report, 'utf8');
+    for (const section of ['Equations used', 'Chosen parts', 'Part stresses', 'Verification by settled simulation', '<svg', 'not compliance evidence']) expect(html).toContain(section);
+    expect(html).not.toMatch(/<script|src="http|href="http|<link /);
+    expect((await readdir(dir)).sort()).toEqual(['bias.json', 'report.html']);
+
+    const before = await readFile(scenarioFile, 'utf8');
+    const refused = await run(process.execPath, ['dist/cli/main.js', 'design', scenarioFile, '--report', scenarioFile.replace(/json$/, 'json')]).then(() => null, (e: { code: number; stderr: string }) => e);
+    // The input does not end in .html, so the name is refused before anything else.
+    expect(refused?.code).toBe(2);
+    const renamed = join(dir, 'bias.html');
+    await writeFile(renamed, before);
+    const overInput = await run(process.execPath, ['dist/cli/main.js', 'design', renamed, '--report', renamed]).then(() => null, (e: { code: number; stderr: string }) => e);
+    expect(overInput?.code).toBe(2);
+    expect(overInput?.stderr).toMatch(/refusing to overwrite an input/);
+    expect(await readFile(renamed, 'utf8')).toBe(before);
+  }, 60_000);
+});
