@@ -3,8 +3,9 @@ import { formatIssues } from '../circuit/validate-scenario.js';
 import { formatSi } from '../circuit/si-number.js';
 import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
 import type { VariantName } from '../circuit/scenario.js';
-import { parseTolerance, parseVary, StudySpecError } from '../study/study-spec.js';
-import { cornerPoints, gridPoints, monteCarloPoints, type PointValues } from '../study/study-points.js';
+import { StudySpecError } from '../study/study-spec.js';
+import type { PointValues } from '../study/study-points.js';
+import { choosePoints } from '../study/choose-points.js';
 import { runStudy, type StudyPoint, type StudyRun } from '../study/run-study.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
 import { BadInput } from './cli-errors.js';
@@ -33,7 +34,13 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
   const base = scenarioToJson(loaded.scenario);
   const nominal = (path: string): number | undefined => getNumberAt(base, path);
-  const points = choosePoints(options, nominal);
+  let points: PointValues[];
+  try {
+    points = choosePoints(options, nominal).points;
+  } catch (error) {
+    if (error instanceof StudySpecError) throw new BadInput(error.message);
+    throw error;
+  }
   if (options.csv) await guard(() => checkOutputPath(options.csv!, [file]));
   const threads = options.threads === undefined ? undefined : Number(options.threads);
   if (threads !== undefined && !(Number.isInteger(threads) && threads >= 0 && threads <= 64)) {
@@ -81,32 +88,6 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
 async function guard<T>(fn: () => Promise<T>): Promise<T> {
   try { return await fn(); } catch (error) {
     if (error instanceof OutputPathError) throw new BadInput(`--csv ${error.message}`);
-    throw error;
-  }
-}
-
-function choosePoints(options: SweepOptions, nominal: (path: string) => number | undefined): PointValues[] {
-  try {
-    if (options.samples !== undefined) {
-      const samples = Number(options.samples);
-      if (!(Number.isInteger(samples) && samples >= 1 && samples <= 100_000)) {
-        throw new StudySpecError(`--samples: expected a whole number from 1 to 100000, found ${JSON.stringify(options.samples)}`);
-      }
-      if (options.vary.length > 0) throw new StudySpecError('--samples: expected --tolerance ranges for Monte Carlo, found --vary as well (use one or the other)');
-      if (options.tolerance.length === 0) throw new StudySpecError('--samples: expected at least one --tolerance PATH=±X%, found none');
-      const seed = Number(options.seed);
-      if (!Number.isInteger(seed)) throw new StudySpecError(`--seed: expected a whole number, found ${JSON.stringify(options.seed)}`);
-      const tolerances = options.tolerance.map((t) => parseTolerance(t, nominal));
-      return monteCarloPoints(tolerances, (p) => nominal(p)!, samples, seed);
-    }
-    if (options.tolerance.length > 0) throw new StudySpecError('--tolerance: expected --samples N with it (Monte Carlo), found none');
-    if (options.vary.length === 0) throw new StudySpecError('sweep: expected at least one --vary PATH=FROM..TO[:STEPS] (or --samples N with --tolerance), found none');
-    const ranges = options.vary.map((v) => parseVary(v, nominal));
-    const points = options.corners ? cornerPoints(ranges) : gridPoints(ranges);
-    if (points.length > 100_000) throw new StudySpecError(`--vary: expected at most 100000 points in the grid, found ${points.length}`);
-    return points;
-  } catch (error) {
-    if (error instanceof StudySpecError) throw new BadInput(error.message);
     throw error;
   }
 }

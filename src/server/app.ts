@@ -7,9 +7,18 @@ import { availableParallelism } from 'node:os';
 import { join, resolve } from 'node:path';
 import { createRequire } from 'node:module';
 import { createPool } from '../workers/create-pool.js';
-import { validateScenario, type ValidationIssue } from '../circuit/validate-scenario.js';
-import { availableVariants, VARIANT_NAMES, type VariantName } from '../circuit/scenario.js';
+import { validateScenario, type ValidationIssue, type ValidationResult } from '../circuit/validate-scenario.js';
+import { availableVariants, VARIANT_NAMES, type Scenario, type VariantName } from '../circuit/scenario.js';
 import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
+import type { DesignTaskResult } from './design-task.js';
+import type { ServerTask, ServerTaskResult } from './server-worker.js';
+import type { PointResult } from '../study/point-task.js';
+import { scenarioAtPoint, type StudyPoint } from '../study/run-study.js';
+import { choosePoints } from '../study/choose-points.js';
+import { StudySpecError } from '../study/study-spec.js';
+import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
+import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
+import { DEFAULT_DRAIN_DERATING } from '../analysis/simulation-report.js';
 
 export interface ServerOptions {
   scenariosDir: string;
@@ -30,6 +39,7 @@ export interface FlyclampServer {
 
 const SCENARIO_ID = /^[a-z0-9][a-z0-9-]{0,63}$/;
 const MAX_COLUMNS = 4000;
+const MAX_SWEEP_POINTS = 200;
 
 class HttpError extends Error {
   constructor(readonly status: number, message: string, readonly issues?: ValidationIssue[]) { super(message); }
@@ -47,8 +57,27 @@ export function createServer(given: ServerOptions): FlyclampServer {
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
   // Admission is counted here rather than left to the pool's queue, so "busy" is exact.
   const maxAdmitted = maxConcurrentRuns + (options.maxQueuedRuns ?? 8);
-  let admitted = 0;
-  const pool = createPool<SimulateTask, SimulateTaskResult>(import.meta.url, 'simulate-worker', { maxThreads: maxConcurrentRuns });
+  let admittedCount = 0;
+  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns });
+
+  /** Admits one request, runs its tasks on the pool under one time cap, and maps the failures. */
+  async function admitted<T>(capMs: number, work: (signal: AbortSignal) => Promise<T>): Promise<T> {
+    if (admittedCount >= maxAdmitted) throw new HttpError(503, 'the server is busy with other simulations; try again shortly');
+    admittedCount++;
+    const abort = new AbortController();
+    // Runs check their own deadline between cycles; the abort is the backstop for a stuck worker.
+    const timer = setTimeout(() => abort.abort(), capMs + 2_000);
+    try {
+      return await work(abort.signal);
+    } catch (error) {
+      if (abort.signal.aborted) throw new HttpError(504, `the work took longer than its time cap of ${capMs / 1000} s`);
+      throw error;
+    } finally {
+      clearTimeout(timer);
+      admittedCount--;
+    }
+  }
+  const failed = (failure: string): HttpError => new HttpError(/time cap/.test(failure) ? 504 : 422, `simulation failed: ${failure}`);
 
   const app = express();
   app.disable('x-powered-by');
@@ -67,26 +96,52 @@ export function createServer(given: ServerOptions): FlyclampServer {
 
   app.post('/api/simulate', async (req, res) => {
     const task = readSimulateBody(req.body, runTimeCapMs);
-    if (admitted >= maxAdmitted) throw new HttpError(503, 'the server is busy with other simulations; try again shortly');
-    admitted++;
-    const abort = new AbortController();
-    // The run checks its own deadline between cycles; the abort is the backstop for a stuck worker.
-    const timer = setTimeout(() => abort.abort(), runTimeCapMs + 2_000);
-    let result: SimulateTaskResult;
-    try {
-      result = await pool.run(task, { signal: abort.signal });
-    } catch (error) {
-      if (abort.signal.aborted) throw new HttpError(504, `the simulation took longer than its time cap of ${runTimeCapMs / 1000} s`);
-      throw error;
-    } finally {
-      clearTimeout(timer);
-      admitted--;
-    }
-    if (!result.ok) {
-      const status = /time cap/.test(result.failure) ? 504 : 422;
-      throw new HttpError(status, `simulation failed: ${result.failure}`);
-    }
+    const result = await admitted(runTimeCapMs, (signal) => pool.run({ kind: 'simulate', ...task }, { signal })) as SimulateTaskResult;
+    if (!result.ok) throw failed(result.failure);
     res.json({ ...result, warnings: task.warnings });
+  });
+
+  app.post('/api/design', async (req, res) => {
+    const { scenario, warnings } = readScenarioBody(req.body, ['scenario', 'columns']);
+    const capMs = 3 * runTimeCapMs; // a design verifies several corners and adjustments
+    const result = await admitted(capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, deadlineMs: Date.now() + capMs }, { signal })) as DesignTaskResult;
+    if (!result.ok) throw failed(result.failure);
+    res.json({ ...result, warnings });
+  });
+
+  app.post('/api/sweep', async (req, res) => {
+    const body = req.body as Record<string, unknown>;
+    const { scenario } = readScenarioBody(body, ['scenario', 'vary', 'corners', 'samples', 'tolerance', 'seed']);
+    const base = scenarioToJson(scenario);
+    let chosen: ReturnType<typeof choosePoints>;
+    try {
+      const strings = (v: unknown, name: string): string[] => {
+        if (v === undefined) return [];
+        if (Array.isArray(v) && v.every((x) => typeof x === 'string')) return v as string[];
+        throw new StudySpecError(`--${name}: expected a list of texts, found ${JSON.stringify(v)}`);
+      };
+      chosen = choosePoints({
+        vary: strings(body.vary, 'vary'), corners: body.corners === true, tolerance: strings(body.tolerance, 'tolerance'),
+        seed: (body.seed as number | string | undefined) ?? 1,
+        ...(body.samples !== undefined ? { samples: body.samples as number } : {}),
+      }, (path) => getNumberAt(base, path), MAX_SWEEP_POINTS);
+    } catch (error) {
+      if (!(error instanceof StudySpecError)) throw error;
+      const flag = /^--(\w+)/.exec(error.message)?.[1] ?? 'vary';
+      throw new HttpError(400, 'invalid request', [{ path: `body.${flag}`, message: error.message.replace(/^--\w+:?\s*/, '') }]);
+    }
+    const capMs = 6 * runTimeCapMs;
+    const deadlineMs = Date.now() + capMs;
+    const points = await admitted(capMs, (signal) => Promise.all(chosen.points.map(async (values, index): Promise<StudyPoint> => {
+      const result = await pool.run({ kind: 'point', scenarioJson: scenarioAtPoint(base, values), deadlineMs }, { signal }) as PointResult;
+      return result.ok ? { index, values, variants: result.report.variants } : { index, values, failure: result.failure };
+    })));
+    const derated = scenario.switch.voltageRating * DEFAULT_DRAIN_DERATING;
+    res.json({
+      kind: chosen.kind, voltageRating: scenario.switch.voltageRating, deratedLimit: derated, points,
+      worst: worstPerVariant(points),
+      ...(chosen.kind === 'monte-carlo' ? { monteCarlo: peakDistribution(points, derated) } : {}),
+    });
   });
 
   app.use('/api', (_req, _res, next) => next(new HttpError(404, 'no such API route')));
@@ -114,14 +169,27 @@ export function createServer(given: ServerOptions): FlyclampServer {
   return { app, close: () => pool.destroy() };
 }
 
-function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & { warnings: ValidationIssue[] } {
+/** The issues of a body whose `scenario` is a scenario object; `allowed` are its known fields. */
+function inspectScenarioBody(body: unknown, allowed: readonly string[]): { validated: ValidationResult; issues: ValidationIssue[] } {
   if (typeof body !== 'object' || body === null || Array.isArray(body)) {
     throw new HttpError(400, 'invalid request', [{ path: 'body', message: `expected a JSON object with a "scenario" field, found ${Array.isArray(body) ? 'a list' : typeof body}` }]);
   }
-  const { scenario: rawScenario, variants, window, columns, ...rest } = body as Record<string, unknown>;
-  const issues: ValidationIssue[] = Object.keys(rest).map((k) => ({ path: `body.${k}`, message: 'unknown field (expected scenario, variants, window, columns)' }));
-  const validated = validateScenario(rawScenario);
+  const issues: ValidationIssue[] = Object.keys(body).filter((k) => !allowed.includes(k))
+    .map((k) => ({ path: `body.${k}`, message: `unknown field (expected ${allowed.join(', ')})` }));
+  const validated = validateScenario((body as Record<string, unknown>).scenario);
   if (!validated.ok) issues.push(...validated.issues);
+  return { validated, issues };
+}
+
+function readScenarioBody(body: unknown, allowed: readonly string[]): { scenario: Scenario; warnings: ValidationIssue[] } {
+  const { validated, issues } = inspectScenarioBody(body, allowed);
+  if (issues.length > 0 || !validated.ok) throw new HttpError(400, 'invalid request', issues);
+  return { scenario: validated.scenario, warnings: validated.warnings };
+}
+
+function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & { warnings: ValidationIssue[] } {
+  const { validated, issues } = inspectScenarioBody(body, ['scenario', 'variants', 'window', 'columns']);
+  const { variants, window, columns } = body as Record<string, unknown>;
   let chosen: VariantName[] | undefined;
   if (variants !== undefined) {
     if (!Array.isArray(variants) || variants.length === 0 || !variants.every((v) => (VARIANT_NAMES as readonly unknown[]).includes(v))) {

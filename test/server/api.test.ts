@@ -99,6 +99,38 @@ describe('HTTP API', () => {
   });
 });
 
+describe('HTTP API: design and sweep', () => {
+  let s: Started;
+  beforeAll(async () => { s = await start(); });
+  afterAll(async () => { await stop(s); });
+  const postTo = (route: string, body: unknown): Promise<Response> =>
+    fetch(`${s.base}${route}`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(body) });
+
+  it('POST /api/design gives the same parts and verdict as `flyclamp design --json`, plus worst-case traces', async () => {
+    const res = await postTo('/api/design', { scenario: await demo('gate-drive-24v') });
+    expect(res.status).toBe(200);
+    const body = await res.json() as { design: { clamp: unknown; damper: unknown; pass: boolean }; worstCaseTraces: Record<string, { values: number[] }> };
+    const cli = JSON.parse((await run(process.execPath, ['dist/cli/main.js', 'design', 'scenarios/gate-drive-24v.json', '--json'])).stdout) as { clamp: unknown; damper: unknown; pass: boolean };
+    expect(body.design.clamp).toEqual(cli.clamp);
+    expect(body.design.damper).toEqual(cli.damper);
+    expect(body.design.pass).toBe(cli.pass);
+    expect(Object.keys(body.worstCaseTraces)).toEqual(['bare', 'clamp', 'damped']);
+  }, 60_000);
+
+  it('POST /api/sweep runs a leakage sweep: points in order, worst per variant; bad syntax is 400 naming body.vary', async () => {
+    const res = await postTo('/api/sweep', { scenario: await demo('bias-48v'), vary: ['transformer.leakageInductance=-10%..+10%:3'] });
+    expect(res.status).toBe(200);
+    const body = await res.json() as { points: Array<{ index: number; variants: { bare: { peakDrainVoltage: number } } }>; worst: { bare: { index: number } } };
+    expect(body.points.map((p) => p.index)).toEqual([0, 1, 2]);
+    expect(body.worst.bare.index).toBe(2);
+    const bad = await postTo('/api/sweep', { scenario: await demo('bias-48v'), vary: ['transformer.leakageInductance=1u'] });
+    expect(bad.status).toBe(400);
+    const issues = ((await bad.json()) as { issues: Array<{ path: string; message: string }> }).issues;
+    expect(issues[0]!.path).toBe('body.vary');
+    expect(issues[0]!.message).toMatch(/expected PATH=FROM\.\.TO/);
+  }, 60_000);
+});
+
 describe('HTTP API limits', () => {
   it('a run over its time cap answers 504 with a clear message', async () => {
     const s = await start({ runTimeCapMs: 1 });
