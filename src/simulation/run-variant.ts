@@ -45,6 +45,8 @@ export interface RunOptions {
   initialState?: number[];
   /** Jump ahead along the slowest mode while settling (default true). */
   extrapolate?: boolean;
+  /** Run exactly this many cycles before recording, whatever the settle test says (benchmarks). */
+  exactCycles?: number;
 }
 
 const MAX_EVENTS_PER_CYCLE = 20_000;
@@ -176,6 +178,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   const extrapolator = new SettlingExtrapolator(scales, options.extrapolate ?? true);
   while (verdict === null) {
     verdict = tracker.push(x);
+    if (options.exactCycles !== undefined) verdict = cycles >= options.exactCycles ? 'cycle-cap' : null;
     if (verdict !== null) break;
     const jumpsBefore = extrapolator.jumps;
     x = extrapolator.next(x);
