@@ -334,3 +334,38 @@ describe('validateScenario reports the control choice together with other mistak
     expect(paths).toEqual(expect.arrayContaining(['clamp.resistance', 'switch.peakCurrent']));
   });
 });
+
+describe('validateScenario on the design block', () => {
+  const withDesign = (design: unknown): ValidationIssue[] => {
+    const raw = JSON.parse(readFileSync('scenarios/bias-48v.json', 'utf8')) as Record<string, unknown>;
+    raw.design = design;
+    const result = validateScenario(raw);
+    return result.ok ? [] : result.issues;
+  };
+  const find = (issues: ValidationIssue[], path: string): ValidationIssue | undefined => issues.find((i) => i.path === path);
+
+  it('fills the defaults of an empty design block', () => {
+    const raw = JSON.parse(readFileSync('scenarios/bias-48v.json', 'utf8')) as Record<string, unknown>;
+    raw.design = {};
+    const result = validateScenario(raw);
+    expect(result.ok && result.scenario.design).toEqual({
+      leakageTolerance: 0.2, drainDerating: 0.8, clampRippleMinimum: 0.05, clampRippleMaximum: 0.1,
+      resistorSeries: 'E24', capacitorSeries: 'E12', ambientTemperature: 50, damperCapacitanceRatio: 4,
+    });
+  });
+
+  it.each([
+    [{ resistorSeries: 'E6' }, 'design.resistorSeries', /expected one of E12, E24, E96, found "E6"/],
+    [{ leakageTolerance: 2 }, 'design.leakageTolerance', /expected a value from 0 to 0.9, found 2/],
+    [{ drainDerating: '80%' }, 'design.drainDerating', /expected a number, found "80%"/],
+    [{ clampRippleMinimum: 0.2, clampRippleMaximum: 0.1 }, 'design.clampRippleMinimum', /at most design.clampRippleMaximum/],
+    [{ inputVoltageMinimum: 70, inputVoltageMaximum: 60 }, 'design.inputVoltageMinimum', /at most design.inputVoltageMaximum/],
+    [{ measuredRing: { frequency: '5M', frequencyWithAddedCapacitor: '6M', addedCapacitance: '300p' } }, 'design.measuredRing.frequencyWithAddedCapacitor', /an added capacitor lowers the ring/],
+    [{ measuredRing: { frequency: '5M' } }, 'design.measuredRing.addedCapacitance', /found nothing/],
+    [{ leakageTolerence: 0.2 }, 'design.leakageTolerence', /unknown field/],
+  ])('rejects design %j naming %s', (design, path, message) => {
+    const issue = find(withDesign(design), path);
+    expect(issue, path).toBeDefined();
+    expect(issue!.message).toMatch(message);
+  });
+});
