@@ -282,6 +282,16 @@ function checkPhysics(s: Scenario, issues: ValidationIssue[], warnings: Validati
   }
 }
 
+/** The unit symbol of a numeric scenario field by its path ('' for ratios), or undefined for no such field. */
+export function fieldUnit(path: string): string | undefined {
+  let spec: FieldSpec = SCENARIO_SPEC;
+  for (const key of path.split('.')) {
+    if (spec.kind !== 'block' || !Object.hasOwn(spec.fields, key)) return undefined;
+    spec = spec.fields[key]!;
+  }
+  return spec.kind === 'number' ? spec.unit : undefined;
+}
+
 export function formatIssues(issues: readonly ValidationIssue[]): string {
   return issues.map((i) => `${i.path}: ${i.message}`).join('\n');
 }

@@ -1,5 +1,5 @@
 import { loadScenarioFile } from '../circuit/load-scenario.js';
-import { formatIssues } from '../circuit/validate-scenario.js';
+import { fieldUnit, formatIssues } from '../circuit/validate-scenario.js';
 import { formatSi } from '../circuit/si-number.js';
 import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
 import type { VariantName } from '../circuit/scenario.js';
@@ -22,12 +22,7 @@ export interface SweepOptions {
   threads?: string;
 }
 
-const UNIT_BY_FIELD: Record<string, string> = {
-  voltage: 'V', magnetizingInductance: 'H', leakageInductance: 'H', primaryResistance: 'Ω', diodeDrop: 'V',
-  frequency: 'Hz', peakCurrent: 'A', drainCapacitance: 'F', onResistance: 'Ω', bodyDiodeDrop: 'V',
-  voltageRating: 'V', resistance: 'Ω', capacitance: 'F',
-};
-const unitOf = (path: string): string => UNIT_BY_FIELD[path.split('.').pop() ?? ''] ?? '';
+const unitOf = (path: string): string => fieldUnit(path) ?? '';
 
 export async function runSweepCommand(file: string, options: SweepOptions): Promise<void> {
   const loaded = await loadScenarioFile(file);
