@@ -2,7 +2,7 @@
 // one mode, leading to another. Known instants (switch on, fixed-duty turn-off) are not events:
 // the simulation makes them segment boundaries.
 
-import { combine, constant, evaluate, unit, IM, IP, VD, type AffineForm } from './affine.js';
+import { combine, constant, evaluate, rateOf, unit, IM, IP, VD, type AffineForm } from './affine.js';
 import type { CircuitParams } from './circuit-params.js';
 import { stateScales } from './circuit-params.js';
 import { buildMode, modeKey, type Mode, type ModeModel } from './modes.js';
@@ -15,6 +15,8 @@ export interface ModeEvent {
   g: AffineForm;
   /** Typical magnitude of g (A or V), for "is it at zero" tests. */
   scale: number;
+  /** dg/dt in this mode (per time unit), for deciding a tie at g = 0. */
+  rate: AffineForm;
   next: Mode;
 }
 
@@ -36,17 +38,17 @@ export class SwitchingNodeModel {
     let entry = this.cache.get(key);
     if (!entry) {
       const built = buildMode(this.params, mode);
-      entry = { ...built, events: this.eventsOf(built) };
+      entry = { ...built, events: this.eventsOf(built).map((e) => ({ ...e, rate: rateOf(e.g, built.system) })) };
       this.cache.set(key, entry);
     }
     return entry;
   }
 
-  private eventsOf(mm: ModeModel): ModeEvent[] {
+  private eventsOf(mm: ModeModel): Array<Omit<ModeEvent, 'rate'>> {
     const p = this.params;
     const { current, voltage } = this.scales;
     const { mode, forms } = mm;
-    const events: ModeEvent[] = [];
+    const events: Array<Omit<ModeEvent, 'rate'>> = [];
     if (mode.drain === 'switch' && p.control.kind === 'peak-current') {
       events.push({
         name: 'switch off (peak current)', device: 'switch', scale: current,

@@ -2,7 +2,7 @@
 // events, and repeat until the period-start state settles (or the orbit is classified), then
 // record a few settled cycles at full resolution.
 
-import { evaluate, rateOf, IP, VC, VS, type AffineForm } from '../model/affine.js';
+import { evaluate, IP, VC, VS } from '../model/affine.js';
 import { circuitForVariant, leakageRingPeriodSeconds, type CircuitParams } from '../model/circuit-params.js';
 import { SwitchingNodeModel, type DeviceName, type ModeEntry } from '../model/events.js';
 import { SECONDS_PER_TIME_UNIT, modeKey, type Mode } from '../model/modes.js';
@@ -73,12 +73,6 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
 
   const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
   const lastStepByMode = new Map<string, number>();
-  const rateCache = new WeakMap<AffineForm, AffineForm>();
-  const rate = (g: AffineForm, entry: ModeEntry): AffineForm => {
-    let r = rateCache.get(g);
-    if (!r) { r = rateOf(g, entry.system); rateCache.set(g, r); }
-    return r;
-  };
 
   // Fire every transition whose condition already holds (or is at zero and rising) at this
   // instant. A device toggled in this instant is not toggled back, so a tangency cannot ping-pong.
@@ -88,7 +82,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
         if (toggled.has(e.device)) return false;
         const g = evaluate(e.g, x);
         if (g > 1e-9 * e.scale) return true;
-        return Math.abs(g) <= 1e-9 * e.scale && evaluate(rate(e.g, entry), x) > (1e-6 * e.scale) / ringPeriod;
+        return Math.abs(g) <= 1e-9 * e.scale && evaluate(e.rate, x) > (1e-6 * e.scale) / ringPeriod;
       });
       if (!due) return entry;
       toggled.add(due.device);
@@ -105,7 +99,6 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   let cycles = 0;
 
   const runCycle = (recording: boolean): void => {
-    // Switch on: Coss dumps ½·Coss·vd² into the channel.
     const entryBefore = model.entry(mode);
     const vdBefore = evaluate(entryBefore.forms.drainVoltage, x);
     const before = recording ? { entry: entryBefore, x: [...x] } : null;
