@@ -20,6 +20,7 @@ export interface SweepOptions {
   json?: boolean;
   csv?: string;
   threads?: string;
+  progress?: boolean;
 }
 
 const unitOf = (path: string): string => fieldUnit(path) ?? '';
@@ -49,7 +50,7 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
     abort.abort();
   };
   process.on('SIGINT', onInterrupt);
-  const progress = progressLine(points.length);
+  const progress = progressLine(points.length, options.progress === true);
   let study: StudyRun;
   try {
     study = await runStudy(base, points, { signal: abort.signal, onProgress: progress.update, ...(threads === undefined ? {} : { threads }) });
@@ -87,23 +88,26 @@ async function guard<T>(fn: () => Promise<T>): Promise<T> {
   }
 }
 
-/** A progress line on a terminal: points done, rate, time left. Silent when stderr is not a TTY. */
-function progressLine(total: number): { update: (done: number, total: number, failed: number) => void; finish: () => void } {
+/**
+ * A progress line on a terminal: points done, rate, time left. Silent when stderr is not a TTY,
+ * unless asked for (`--progress`), then one line per finished point.
+ */
+function progressLine(total: number, forced: boolean): { update: (done: number, total: number, failed: number) => void; finish: () => void } {
   const started = Date.now();
   const tty = process.stderr.isTTY === true;
   let shown = false;
   return {
     update: (done, _total, failed) => {
-      if (!tty) return;
+      if (!tty && !forced) return;
       const seconds = (Date.now() - started) / 1000;
       const rate = done / Math.max(seconds, 1e-3);
       const left = (total - done) / Math.max(rate, 1e-9);
       const width = 24;
       const filled = Math.round((width * done) / total);
-      process.stderr.write(`\r[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${done}/${total} points${failed ? `, ${failed} failed` : ''}, ${rate.toFixed(1)}/s, ${left.toFixed(0)} s left  `);
+      process.stderr.write(`${tty ? '\r' : ''}[${'#'.repeat(filled)}${'.'.repeat(width - filled)}] ${done}/${total} points${failed ? `, ${failed} failed` : ''}, ${rate.toFixed(1)}/s, ${left.toFixed(0)} s left  ${tty ? '' : '\n'}`);
       shown = true;
     },
-    finish: () => { if (shown) process.stderr.write('\n'); },
+    finish: () => { if (shown && tty) process.stderr.write('\n'); },
   };
 }
 

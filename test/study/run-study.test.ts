@@ -89,10 +89,14 @@ describe('flyclamp sweep (CLI)', () => {
   }, 30_000);
 
   it('Ctrl-C stops cleanly and keeps the finished points in the output', async () => {
-    const child = spawn(process.execPath, ['dist/cli/main.js', 'sweep', 'scenarios/mains-aux-12v.json', '--vary', 'clamp.resistance=40k..80k:40', '--threads', '1', '--json']);
+    const child = spawn(process.execPath, ['dist/cli/main.js', 'sweep', 'scenarios/mains-aux-12v.json', '--vary', 'clamp.resistance=40k..80k:40', '--threads', '1', '--json', '--progress']);
     let stdout = '';
     child.stdout.on('data', (d: Buffer) => { stdout += d.toString(); });
-    await new Promise((ok) => setTimeout(ok, 4000));
+    // Interrupt once two points are done (the progress lines say so), however busy the machine is.
+    await new Promise<void>((ok) => {
+      let stderr = '';
+      child.stderr.on('data', (d: Buffer) => { stderr += d.toString(); if (/\] 2\/40 points/.test(stderr)) ok(); });
+    });
     child.kill('SIGINT');
     const code = await new Promise<number | null>((ok) => child.on('close', ok));
     const out = JSON.parse(stdout) as { interrupted: boolean; points: unknown[]; pointsRequested: number };
