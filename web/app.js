@@ -1,5 +1,6 @@
 // The flyclamp page: a form over the scenario file, a run against /api/simulate, two plots and
-// a table. Plain ES module, no build step; Plotly comes from /vendor/plotly.min.js as a global.
+// a table; below them a design panel (/api/design) and a study panel (/api/sweep).
+// Plain ES module, no build step; Plotly comes from /vendor/plotly.min.js as a global.
 
 const Plotly = /** @type {any} */ (window).Plotly;
 
@@ -102,6 +103,10 @@ const state = {
   statusText: '',
   /** Name of the opened file without .json, for the saved copy's name. */
   fileBase: '',
+  /** The last successful design: the scenario sent and the answer. */
+  design: /** @type {null | { scenario: object, data: any }} */ (null),
+  /** The last successful study: the request, the answer and the form's values it referred to. */
+  study: /** @type {null | { request: any, data: any, nominals: Record<string, number | undefined>, seconds: string }} */ (null),
 };
 
 // ---------- building the form ----------
@@ -160,6 +165,7 @@ function buildForm() {
     const target = /** @type {HTMLInputElement} */ (event.target);
     if (target.dataset.path) clearFieldError(target.dataset.path);
     markEdited();
+    updateStudyPreview();
   });
   syncBlocks();
   syncControl();
@@ -277,6 +283,7 @@ function syncControl() {
   for (const el of form.querySelectorAll('.field[data-when]')) {
     /** @type {HTMLElement} */ (el).hidden = /** @type {HTMLElement} */ (el).dataset.when !== kind;
   }
+  refreshStudyFields();
 }
 
 function syncBlocks() {
@@ -286,6 +293,7 @@ function syncBlocks() {
     set.disabled = !(/** @type {HTMLInputElement} */ (box).checked);
     set.classList.toggle('off', set.disabled);
   }
+  refreshStudyFields();
 }
 
 function inputFor(path) { return /** @type {HTMLInputElement | null} */ (form.querySelector(`[data-path="${path}"]`)); }
@@ -383,14 +391,20 @@ function clearFieldError(path) {
   inputFor(path)?.removeAttribute('aria-invalid');
 }
 
-function clearErrors() {
+function clearFieldErrors() {
   for (const box of form.querySelectorAll('.field-error')) clearFieldError(/** @type {HTMLElement} */ (box).dataset.for);
+}
+
+function clearErrors() {
+  clearFieldErrors();
   showGeneral([]);
 }
 
 /** Shows lines in the general area; `tone` 'note' is for load remarks that are not failures. */
-function showGeneral(lines, tone = 'error') {
-  const area = $('#general-error');
+function showGeneral(lines, tone = 'error') { showMessages($('#general-error'), lines, tone); }
+
+/** Lines (texts or {path, message}) in a message area: the general one or a panel's own. */
+function showMessages(area, lines, tone = 'error') {
   area.replaceChildren();
   area.hidden = lines.length === 0;
   area.dataset.tone = tone;
@@ -406,8 +420,11 @@ function showGeneral(lines, tone = 'error') {
   }
 }
 
-/** Puts each issue beside the input its path names; the rest go to the general area. */
-function showIssues(issues) {
+/**
+ * Puts each issue beside the input its path names; the rest, or a summary line, go to `showRest`
+ * (the general area for a simulation, a panel's own area for a design or a study).
+ */
+function showIssues(issues, showRest = showGeneral) {
   const rest = [];
   const kind = controlKind();
   for (const issue of issues) {
@@ -428,8 +445,11 @@ function showIssues(issues) {
   }
   const first = form.querySelector('input[aria-invalid="true"]');
   if (first) /** @type {HTMLElement} */ (first).scrollIntoView({ block: 'center', behavior: 'smooth' });
-  if (rest.length > 0) showGeneral(rest);
-  else showGeneral([`The server could not use the design: ${issues.length === 1 ? 'one field needs' : `${issues.length} fields need`} attention (marked in the form).`]);
+  if (rest.length > 0) showRest(rest);
+  else {
+    const named = [...new Set(issues.map((i) => formField(i.path)?.label ?? i.path))];
+    showRest([`The server could not use the design: ${issues.length === 1 ? 'one field needs' : `${issues.length} fields need`} attention (marked in the form: ${named.join('; ')}).`]);
+  }
 }
 
 // ---------- running ----------
@@ -870,6 +890,916 @@ function saveFile() {
   setTimeout(() => URL.revokeObjectURL(link.href), 10_000);
 }
 
+// ---------- panels: shared ----------
+
+const designPlot = $('#design-plot');
+const sweepPlot = $('#sweep-plot');
+let panelsReady = false;
+
+const SI_SCALES = [[1e9, 'G'], [1e6, 'M'], [1e3, 'k'], [1, ''], [1e-3, 'm'], [1e-6, 'µ'], [1e-9, 'n'], [1e-12, 'p'], [1e-15, 'f']];
+const PREFIX_EXPONENT = { f: -15, p: -12, n: -9, u: -6, 'µ': -6, 'μ': -6, m: -3, k: 3, M: 6, G: 9 };
+const UNIT_SPELLINGS = { V: ['V'], A: ['A'], H: ['H'], F: ['F'], Hz: ['Hz'], s: ['s'], W: ['W'], 'Ω': ['Ω', 'ohm', 'Ohm', 'R'] };
+const SI_UNITS = Object.keys(UNIT_SPELLINGS);
+
+/**
+ * A value as the server reads it: a number, optionally an SI prefix, optionally one of `units`
+ * (undefined when it would not parse). Used only to preview and to label; the server decides.
+ */
+function parseSi(text, units) {
+  const m = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$/.exec(String(text));
+  if (!m) return undefined;
+  const spellings = units.flatMap((u) => UNIT_SPELLINGS[u] ?? []);
+  const isUnit = (suffix) => suffix === '' || spellings.includes(suffix);
+  let exponent;
+  if (isUnit(m[2])) exponent = 0;
+  else {
+    for (const [prefix, e] of Object.entries(PREFIX_EXPONENT)) {
+      if (m[2].startsWith(prefix) && isUnit(m[2].slice(prefix.length))) { exponent = e; break; }
+    }
+  }
+  if (exponent === undefined) return undefined;
+  const mantissa = Number(m[1]);
+  const value = exponent < 0 ? mantissa / 10 ** -exponent : mantissa * 10 ** exponent;
+  return Number.isFinite(value) ? value : undefined;
+}
+
+/** A value as an engineer types it into the form: "43k", "3.9n", "330p", "560". */
+function siForForm(value) {
+  if (value === 0 || !Number.isFinite(value)) return String(value);
+  const [scale, prefix] = SI_SCALES.find(([s]) => Math.abs(value) >= s * 0.9995) ?? [1e-15, 'f'];
+  return `${Number((value / scale).toPrecision(12))}${prefix === 'µ' ? 'u' : prefix}`;
+}
+
+/** The scale and prefix that put the largest magnitude of `values` between 1 and 1000. */
+function scaleFor(values, unit) {
+  if (!SI_UNITS.includes(unit)) return { scale: 1, label: unit && unit !== '—' ? unit : '' };
+  const top = Math.max(...values.map(Math.abs).filter(Number.isFinite), 0);
+  const [scale, prefix] = top === 0 ? [1, ''] : SI_SCALES.find(([s]) => top >= s * 0.9995) ?? [1e-15, 'f'];
+  return { scale, label: `${prefix}${unit}` };
+}
+
+function formField(path) {
+  for (const g of GROUPS) for (const f of g.fields) if (f.path === path) return f;
+  return undefined;
+}
+
+/** The form's current value of a numeric field (its default when empty), or undefined. */
+function formNumber(path) {
+  const field = formField(path);
+  const input = inputFor(path);
+  if (!field || !input) return undefined;
+  const text = input.value.trim();
+  if (text === '') return field.fallback !== undefined ? parseSi(field.fallback, []) : undefined;
+  return parseSi(text, SI_UNITS.includes(field.unit) ? [field.unit] : []);
+}
+
+function unitOf(path) {
+  const u = formField(path)?.unit ?? '';
+  return SI_UNITS.includes(u) ? u : '';
+}
+
+/** A field's value with its unit for people (plain numbers for ratios). */
+function fmtField(path, value) {
+  const unit = unitOf(path);
+  return unit ? fmtSi(value, unit, 4) : fmtNumber(value, 4);
+}
+
+function el(tag, props = {}, ...children) {
+  const node = document.createElement(tag);
+  for (const [k, v] of Object.entries(props)) {
+    if (v === undefined || v === null) continue;
+    if (k === 'class') node.className = v;
+    else if (k === 'text') node.textContent = v;
+    else if (k === 'dataset') Object.assign(node.dataset, v);
+    else node.setAttribute(k, v);
+  }
+  node.append(...children.filter((c) => c !== undefined && c !== null));
+  return node;
+}
+
+function cap(text) { return `${text.charAt(0).toUpperCase()}${text.slice(1)}`; }
+
+/** Busy state of one panel: its button, the pulse with elapsed time, and data-* for tests. */
+function panelRunner(prefix) {
+  const panel = $(`#${prefix}-panel`);
+  const button = /** @type {HTMLButtonElement} */ ($(`#${prefix}-run`));
+  const busy = $(`#${prefix}-busy`);
+  const time = $(`#${prefix}-busy-time`);
+  let timer = 0;
+  let count = 0;
+  return {
+    panel,
+    get busy() { return button.disabled; },
+    start() {
+      const startedAt = performance.now();
+      panel.dataset.state = 'busy';
+      button.disabled = true;
+      busy.hidden = false;
+      const tick = () => { time.textContent = `${((performance.now() - startedAt) / 1000).toFixed(1)} s`; };
+      tick();
+      window.clearInterval(timer);
+      timer = window.setInterval(tick, 50);
+      return { seconds: () => ((performance.now() - startedAt) / 1000).toFixed(2) };
+    },
+    finish(outcome) {
+      window.clearInterval(timer);
+      busy.hidden = true;
+      button.disabled = false;
+      panel.dataset.state = outcome === 'ok' ? 'done' : 'error';
+      panel.dataset.lastOutcome = outcome;
+      count += 1;
+      panel.dataset.runCount = String(count);
+    },
+  };
+}
+
+async function postJson(url, body) {
+  let response;
+  try {
+    response = await fetch(url, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify(body) });
+  } catch {
+    throw new Error('could not reach the flyclamp server; is it still running?');
+  }
+  const text = await response.text();
+  let data = null;
+  try { data = JSON.parse(text); } catch { /* a proxy's HTML page, say: reported by status below */ }
+  return { response, data };
+}
+
+function failureLine(response, data, hint504) {
+  const reason = (data && typeof data.error === 'string' ? data.error : `the server answered ${response.status} ${response.statusText}`).replace(/\.$/, '');
+  const hint = response.status === 504 ? hint504
+    : response.status === 503 ? ' Other runs are in progress; try again in a moment.' : '';
+  return `${cap(reason)}.${hint}`;
+}
+
+function flagBadge(kind, text) { return el('span', { class: `flag flag-${kind}`, text }); }
+
+function verdictBadge(pass) { return el('span', { class: `verdict ${pass ? 'pass' : 'fail'}`, text: pass ? 'PASS' : 'FAIL' }); }
+
+/** A numeric table cell, right-aligned, with the raw value for tests and copying. */
+function numCell(value, text, extra = {}) {
+  if (value === undefined || value === null || !Number.isFinite(value)) return el('td', { ...extra, class: 'na', text: '—' });
+  return el('td', { ...extra, dataset: { ...(extra.dataset ?? {}), value: String(value) }, text });
+}
+
+function peakCell(peak, rating, derated, extra = {}) {
+  const td = numCell(peak, fmtVolts(peak), extra);
+  if (!Number.isFinite(peak)) return td;
+  if (peak > rating) { td.classList.add('over-rating'); td.append(' ', flagBadge('rating', 'over rating')); }
+  else if (peak > derated) { td.classList.add('over-derated'); td.append(' ', flagBadge('derated', 'over derated')); }
+  return td;
+}
+
+function marginCell(margin, extra = {}) {
+  const td = numCell(margin, fmtMargin(margin), extra);
+  if (Number.isFinite(margin) && margin < 0) td.classList.add('over-derated');
+  return td;
+}
+
+function variantHead(v, label) {
+  const th = el('th', { scope: 'row' }, el('span', { class: 'swatch' }), el('span', { class: 'vname', text: v }));
+  /** @type {HTMLElement} */ (th.firstChild).style.background = COLOURS[v];
+  if (label) th.append(el('span', { class: 'vdesc', text: label }));
+  return th;
+}
+
+function level(x0, x1, y, name, meta, colour, dash, width) {
+  return {
+    type: 'scatter', mode: 'lines', name, meta, x: [x0, x1], y: [y, y], showlegend: false, hoverinfo: 'skip',
+    line: { color: colour, dash, width },
+  };
+}
+
+function levelTag(y, text, colour, shift) {
+  return {
+    x: 1, xref: 'paper', xanchor: 'right', y, yref: 'y', yanchor: shift > 0 ? 'bottom' : 'top', yshift: shift,
+    text, showarrow: false, font: { color: colour, size: 12 }, bgcolor: 'rgba(255,253,248,0.85)',
+  };
+}
+
+// ---------- design panel ----------
+
+let design = /** @type {null | ReturnType<typeof panelRunner>} */ (null);
+
+const CORNER_LABELS = { worstCase: 'worst case', nominal: 'nominal' };
+const DESIGN_LABELS = { bare: 'bare · no clamp', clamp: 'clamp · the designed RCD clamp', damped: 'damped · clamp + the designed RC damper' };
+
+async function runDesign() {
+  if (!design || design.busy) return;
+  const scenario = readForm();
+  const run = design.start();
+  const area = $('#design-error');
+  clearFieldErrors();
+  showMessages(area, []);
+  $('#design-status').textContent = '';
+  let outcome = 'failed';
+  try {
+    const { response, data } = await postJson('/api/design', { scenario });
+    const seconds = run.seconds();
+    if (response.ok && data && data.ok) {
+      outcome = 'ok';
+      state.design = { scenario, data };
+      design.panel.classList.remove('stale');
+      $('#design-result').hidden = false;
+      drawDesign(data);
+      $('#design-status').textContent = `Designed and verified in ${seconds} s: ${data.design.scenario}.`;
+    } else if (response.status === 400 && data && Array.isArray(data.issues)) {
+      outcome = 'invalid';
+      showIssues(data.issues, (lines) => showMessages(area, lines));
+      $('#design-status').textContent = `Not designed: the scenario has ${data.issues.length === 1 ? 'a problem' : `${data.issues.length} problems`}.`;
+    } else {
+      showMessages(area, [failureLine(response, data, ' Fewer cycles (solver settings) or a looser tolerance may help.')]);
+      $('#design-status').textContent = `Not designed (${seconds} s).`;
+    }
+  } catch (error) {
+    showMessages(area, [/** @type {Error} */ (error).message]);
+    $('#design-status').textContent = 'Not designed.';
+  } finally {
+    if (outcome !== 'ok' && state.design) {
+      design.panel.classList.add('stale');
+      $('#design-status').textContent += ' The results below are from the last successful design.';
+    }
+    design.finish(outcome);
+  }
+}
+
+function drawDesign(data) {
+  const d = data.design;
+  const hand = d.hand;
+  const wc = d.verification.worstCase;
+  const bare = wc.variants.bare;
+  const rating = Number((bare.peakDrainVoltage + bare.marginToRating).toPrecision(10));
+  const derated = hand.deratedLimit;
+
+  const failed = Object.entries(d.verification).filter(([, c]) => !c.pass).map(([k]) => CORNER_LABELS[k] ?? k);
+  const verdict = $('#design-verdict');
+  verdict.replaceChildren(verdictBadge(d.pass), ` ${d.pass ? 'both corners within the derated limit' : `over the derated limit at the ${failed.join(' and the ')}`}`);
+  verdict.className = `verdict-text ${d.pass ? 'pass' : 'fail'}`;
+  verdict.dataset.pass = String(d.pass);
+  $('#design-limit').textContent = `derated limit ${fmtVolts(derated)} = ${fmtNumber(100 * hand.targets.drainDerating, 3)} % of the ${fmtVolts(rating)} rating · worst case: ${fmtVolts(wc.conditions.supplyVoltage)} in, leakage ${fmtSi(wc.conditions.leakageInductance, 'H')} (+${fmtNumber(100 * hand.targets.leakageTolerance, 3)} %), ${fmtSi(wc.conditions.peakCurrent, 'A')} at turn-off`;
+
+  // The chosen parts.
+  const part = (path, label, value, unit, digits = 3) => [
+    el('dt', { text: label }),
+    el('dd', { dataset: { part: path, value: String(value) }, text: fmtSi(value, unit, digits) }),
+  ];
+  $('#design-parts').replaceChildren(
+    el('div', { class: 'part-block', dataset: { block: 'clamp' } },
+      el('h4', {}, el('span', { class: 'swatch' }), 'RCD clamp'),
+      el('dl', {},
+        ...part('clamp.resistance', 'Resistor', d.clamp.resistance, 'Ω'),
+        ...part('clamp.capacitance', 'Capacitor', d.clamp.capacitance, 'F'),
+        ...part('clamp.diodeDrop', 'Diode drop', d.clamp.diodeDrop, 'V'))),
+    el('div', { class: 'part-block', dataset: { block: 'damper' } },
+      el('h4', {}, el('span', { class: 'swatch' }), 'RC damper'),
+      el('dl', {},
+        ...part('damper.resistance', 'Resistor', d.damper.resistance, 'Ω'),
+        ...part('damper.capacitance', 'Capacitor', d.damper.capacitance, 'F'))),
+  );
+  /** @type {HTMLElement} */ ($('#design-parts [data-block="clamp"] .swatch')).style.background = COLOURS.clamp;
+  /** @type {HTMLElement} */ ($('#design-parts [data-block="damper"] .swatch')).style.background = COLOURS.damped;
+  $('#design-use-note').textContent = 'Loads these parts into the form and switches the clamp and the damper on; Simulate then runs them at the scenario’s own conditions.';
+
+  // How the parts were chosen.
+  const t = hand.targets;
+  const steps = [
+    el('li', {}, `Formula at the worst case: R = ${fmtSi(hand.resistanceExact, 'Ω', 4)}; the ${t.resistorSeries} value at or below it is `,
+      el('b', { text: fmtSi(hand.resistance, 'Ω', 3) }), `, with C = ${fmtSi(hand.capacitance, 'F', 3)} (${t.capacitorSeries}, at or above ${fmtSi(hand.capacitanceExact, 'F', 3)} for at most ${fmtNumber(100 * t.clampRippleMaximum, 3)} % ripple).`),
+    ...d.adjustments.map((a) => el('li', { dataset: { resistance: String(a.resistance) } },
+      el('b', { text: fmtSi(a.resistance, 'Ω', 3) }), `: simulated worst-case peak ${fmtVolts(a.worstCasePeak)} against ${fmtVolts(derated)}. `,
+      el('span', { class: 'muted', text: cap(a.reason) + '.' }))),
+  ];
+  if (d.adjustments.length === 0) steps.push(el('li', { class: 'muted', text: 'No step: the formula’s value holds the simulated worst case under the limit, and one standard step up does not.' }));
+  steps.push(el('li', { class: 'chosen' }, 'Chosen clamp: ', el('b', { text: `${fmtSi(d.clamp.resistance, 'Ω', 3)} ∥ ${fmtSi(d.clamp.capacitance, 'F', 3)}` }),
+    `. Damper: Rs = √(Llk/Coss) = ${fmtSi(hand.damper.resistanceExact, 'Ω', 4)} → `, el('b', { text: fmtSi(d.damper.resistance, 'Ω', 3) }),
+    `, Cs = ${fmtNumber(t.damperCapacitanceRatio, 3)} × Coss = ${fmtSi(hand.damper.capacitanceExact, 'F', 3)} → `, el('b', { text: fmtSi(d.damper.capacitance, 'F', 3) }),
+    ` (nearest ${t.resistorSeries} / ${t.capacitorSeries}).`));
+  $('#design-adjustments').replaceChildren(...steps);
+
+  // Verification per corner.
+  const vbody = /** @type {HTMLElement} */ ($('#design-verification tbody'));
+  vbody.replaceChildren(...Object.entries(d.verification).map(([key, c]) => {
+    const v = c.variants;
+    const row = el('tr', { dataset: { corner: key, pass: String(c.pass) } },
+      el('th', { scope: 'row', text: CORNER_LABELS[key] ?? key }),
+      numCell(c.conditions.supplyVoltage, fmtVolts(c.conditions.supplyVoltage)),
+      numCell(c.conditions.leakageInductance, fmtSi(c.conditions.leakageInductance, 'H')),
+      numCell(c.conditions.peakCurrent, fmtSi(c.conditions.peakCurrent, 'A')),
+      peakCell(v.bare?.peakDrainVoltage, rating, derated, { dataset: { metric: 'bare' } }),
+      peakCell(v.clamp?.peakDrainVoltage, rating, derated, { dataset: { metric: 'clamp' } }),
+      peakCell(v.damped?.peakDrainVoltage, rating, derated, { dataset: { metric: 'damped' } }),
+      numCell(v.clamp?.clampVoltageMean, fmtSi(v.clamp?.clampVoltageMean, 'V')),
+      numCell(v.clamp?.clampVoltageRipple, fmtSi(v.clamp?.clampVoltageRipple, 'V', 3)),
+      numCell(v.clamp?.clampResistorPower, fmtSi(v.clamp?.clampResistorPower, 'W', 3)),
+      numCell(v.damped?.damperResistorPower, fmtSi(v.damped?.damperResistorPower, 'W', 3)),
+      marginCell(c.margin, { dataset: { metric: 'margin' } }),
+      el('td', { class: 'verdict-cell', dataset: { metric: 'verdict' } }, verdictBadge(c.pass)),
+    );
+    // numCell puts data-value; the peak cells also need their metric name for tests.
+    return row;
+  }));
+
+  // Part stresses.
+  const sbody = /** @type {HTMLElement} */ ($('#design-stresses tbody'));
+  sbody.replaceChildren(...d.stresses.map((p) => {
+    const value = p.unit === 'V' ? `Vf ${fmtSi(p.value, 'V', 3)}` : fmtSi(p.value, p.unit, 3);
+    const rated = p.suggestedRating !== undefined
+      ? el('td', { dataset: { value: String(p.suggestedRating) } }, `${fmtVolts(p.suggestedRating)}`,
+        el('span', { class: 'sub', text: `${fmtNumber(100 * p.voltageMargin, 2)} % margin` }))
+      : el('td', { class: 'na', text: '—' });
+    let arrangement = el('td', { class: 'na', text: '—' });
+    if (p.arrangement && p.arrangement.ok) {
+      const a = p.arrangement;
+      arrangement = el('td', { class: 'left' },
+        `${a.count} × ${a.caseName}${a.count > 1 ? ` in series, ${fmtSi(a.resistancePerResistor, 'Ω', 3)} each` : ''}`,
+        el('span', { class: 'sub', text: `${fmtSi(a.powerPerResistor, 'W', 2)} and ${fmtSi(a.voltagePerResistor, 'V', 3)} each; allowed ${fmtSi(a.allowedPower, 'W', 2)}, ${fmtSi(a.allowedVoltage, 'V', 3)}` }));
+      if (a.count > 1) arrangement.append(el('span', { class: 'sub', text: 'per-resistor value unrounded: choose a preferred value near it' }));
+      if (a.hotSpot) arrangement.append(' ', el('span', { class: 'flag flag-derated', text: 'hot spot', title: 'more than 0.1 W in one chip resistor: mind the copper and its neighbours' }));
+    } else if (p.arrangement) {
+      arrangement = el('td', { class: 'left over-derated', text: p.arrangement.reason });
+    }
+    return el('tr', { dataset: { part: p.part } },
+      el('th', { scope: 'row', text: p.part }),
+      el('td', { dataset: { value: String(p.value) }, text: value }),
+      numCell(p.workingVoltage, fmtVolts(p.workingVoltage)),
+      numCell(p.power, fmtSi(p.power, 'W', 3)),
+      numCell(p.peakCurrent, fmtSi(p.peakCurrent, 'A', 3)),
+      rated,
+      arrangement,
+      el('td', { class: 'note', text: p.note ?? '' }),
+    );
+  }));
+
+  // Notes, warnings and the standing cautions: visible, not folded.
+  const notes = [...d.notes.map((n) => ({ text: n, kind: 'note' }))];
+  for (const w of data.warnings ?? []) notes.push({ text: `${w.path}: ${w.message}`, kind: 'warning' });
+  if (hand.extracted) {
+    notes.push({ kind: 'note', text: `The design used the drain capacitance ${fmtSi(hand.extracted.drainCapacitance, 'F', 3)} and leakage inductance ${fmtSi(hand.extracted.leakageInductance, 'H', 3)} extracted from the measured ring (Z0 = ${fmtSi(hand.extracted.characteristicImpedance, 'Ω', 3)}); the form still holds the scenario’s own values, which the main simulation and the studies use.` });
+  }
+  notes.push({ kind: 'caution', text: 'Verified at two corners only (worst case and nominal), with the parts at their nominal values. Diode recovery and parasitics outside the scenario are not modelled: measure the drain on the bench, with a probe rated for it, before relying on the margin.' });
+  $('#design-notes').replaceChildren(...notes.map((n) => el('li', { class: n.kind, text: n.text })));
+
+  // Worked equations (folded).
+  const ebody = /** @type {HTMLElement} */ ($('#design-equations tbody'));
+  ebody.replaceChildren(...hand.equations.map((e) => el('tr', {},
+    el('th', { scope: 'row', text: e.quantity }),
+    el('td', { class: 'left formula', text: e.formula }),
+    numCell(e.value, e.unit ? fmtSi(e.value, e.unit, 4) : fmtNumber(e.value, 4)),
+    el('td', { class: 'note', text: e.source }),
+  )));
+  /** @type {HTMLElement} */ ($('#design-equations-fold summary')).textContent = `Worked equations and their sources (${hand.equations.length})`;
+
+  drawDesignPlot(data, false);
+}
+
+/**
+ * The first turn-off in the worst-case traces: where the bare drain first rises through half its
+ * plateau (the recording starts at a turn-on, while the drain may still be high from the last ring).
+ */
+function designTurnOffWindow(data) {
+  const d = data.design;
+  const tr = data.worstCaseTraces.bare ?? data.worstCaseTraces.clamp;
+  if (!tr) return null;
+  const half = 0.5 * (d.verification.worstCase.conditions.supplyVoltage + d.hand.reflectedVoltage);
+  const i = tr.values.findIndex((v, k) => k > 0 && v > half && tr.values[k - 1] <= half);
+  if (i < 0) return null;
+  const t = tr.timeSeconds[i];
+  const rings = ['bare', 'clamp'].map((v) => d.verification.worstCase.variants[v]?.ringFrequency).filter((f) => typeof f === 'number' && f > 0);
+  const after = Math.max(rings.length ? 5 / Math.min(...rings) : 0, 1e-6);
+  const end = tr.timeSeconds[tr.timeSeconds.length - 1];
+  return [Math.max(0, t - 0.3e-6) * US, Math.min(end, t + after) * US];
+}
+
+function drawDesignPlot(data, zoomed) {
+  const d = data.design;
+  const wc = d.verification.worstCase;
+  const bare = wc.variants.bare;
+  const rating = Number((bare.peakDrainVoltage + bare.marginToRating).toPrecision(10));
+  const derated = d.hand.deratedLimit;
+  const plateau = wc.conditions.supplyVoltage + d.hand.reflectedVoltage;
+  const present = VARIANTS.filter((v) => data.worstCaseTraces[v]);
+  const end = Math.max(...present.map((v) => { const ts = data.worstCaseTraces[v].timeSeconds; return ts[ts.length - 1]; })) * US;
+  const traces = present.map((v) => ({
+    type: 'scatter', mode: 'lines', meta: `variant:${v}`,
+    name: `${DESIGN_LABELS[v]} — peak ${fmtVolts(wc.variants[v].peakDrainVoltage)}`,
+    x: data.worstCaseTraces[v].timeSeconds.map((t) => t * US),
+    y: data.worstCaseTraces[v].values,
+    line: { color: COLOURS[v], width: v === 'bare' ? 1.3 : 1.7 },
+    hovertemplate: `%{y:.1f} V at %{x:.3f} µs<extra>${v}</extra>`,
+  }));
+  traces.push(
+    level(0, end, rating, `rating ${fmtNumber(rating)} V`, 'limit:rating', RATING_COLOUR, 'dash', 1.6),
+    level(0, end, derated, `derated limit ${fmtNumber(derated)} V`, 'limit:derated', DERATED_COLOUR, 'dashdot', 1.4),
+    level(0, end, plateau, `Vin + VR ${fmtNumber(plateau)} V`, 'ref:plateau', '#8c8372', 'dot', 1),
+  );
+  const window_ = zoomed ? designTurnOffWindow(data) : null;
+  const layout = {
+    ...BASE_LAYOUT,
+    margin: { l: 62, r: 14, t: 34, b: 48 },
+    legend: { orientation: 'h', x: 0, y: 1.02, yanchor: 'bottom', font: { size: 12.5 } },
+    xaxis: { ...AXIS, title: { text: window_ ? 'time from the start of the recorded cycles (µs) — display resolution' : 'time over the recorded settled cycles at the worst case (µs)' }, range: window_ ?? [0, end] },
+    yaxis: { ...AXIS, title: { text: 'drain–source voltage (V)' }, rangemode: 'tozero' },
+    annotations: [
+      levelTag(rating, `rating ${fmtNumber(rating)} V`, RATING_COLOUR, 2),
+      levelTag(derated, `derated limit ${fmtNumber(derated)} V`, DERATED_COLOUR, 2),
+      levelTag(plateau, `Vin,max + VR ${fmtNumber(plateau)} V`, '#6f6757', -2),
+    ],
+  };
+  Plotly.react(designPlot, traces, layout, PLOT_CONFIG);
+  designPlot.dataset.view = window_ ? 'turn-off' : 'whole';
+  /** @type {HTMLButtonElement} */ ($('#design-zoom-turnoff')).disabled = Boolean(window_) || !designTurnOffWindow(data);
+  /** @type {HTMLButtonElement} */ ($('#design-zoom-whole')).disabled = !window_;
+}
+
+function useDesignParts() {
+  if (!state.design) return;
+  const { clamp, damper } = state.design.data.design;
+  const values = {
+    'clamp.resistance': siForForm(clamp.resistance),
+    'clamp.capacitance': siForForm(clamp.capacitance),
+    'clamp.diodeDrop': String(Number(clamp.diodeDrop.toPrecision(12))),
+    'damper.resistance': siForForm(damper.resistance),
+    'damper.capacitance': siForForm(damper.capacitance),
+  };
+  /** @type {HTMLInputElement} */ ($('#use-clamp')).checked = true;
+  /** @type {HTMLInputElement} */ ($('#use-damper')).checked = true;
+  syncBlocks();
+  for (const [path, text] of Object.entries(values)) {
+    const input = inputFor(path);
+    input.value = text;
+    clearFieldError(path);
+    const field = /** @type {HTMLElement} */ (input.closest('.field'));
+    field.classList.remove('loaded');
+    void field.offsetWidth; // restart the highlight
+    field.classList.add('loaded');
+  }
+  markEdited();
+  updateStudyPreview();
+  $('#design-use-note').textContent = `In the form: clamp ${fmtSi(clamp.resistance, 'Ω', 3)} ∥ ${fmtSi(clamp.capacitance, 'F', 3)}, diode ${fmtSi(clamp.diodeDrop, 'V', 3)}; damper ${fmtSi(damper.resistance, 'Ω', 3)} + ${fmtSi(damper.capacitance, 'F', 3)}. Simulate (or Enter in the form) to run them at the scenario’s conditions.`;
+  $('#design-use-note').classList.add('done');
+}
+
+// ---------- study panel ----------
+
+let study = /** @type {null | ReturnType<typeof panelRunner>} */ (null);
+const STUDY_GROUPS = { supply: 'Supply', transformer: 'Transformer', output: 'Output', switch: 'Switch', clamp: 'RCD clamp', damper: 'RC damper' };
+const DEFAULT_STUDY_FIELD = 'transformer.leakageInductance';
+const MAX_STUDY_POINTS = 200;
+
+/** The numeric fields a study can vary: those of the blocks the form sends, for its control mode. */
+function studyFields() {
+  const kind = controlKind();
+  const out = [];
+  for (const group of GROUPS) {
+    if (!(group.key in STUDY_GROUPS)) continue;
+    if (group.optionalBlock && !(/** @type {HTMLInputElement | null} */ (document.getElementById(`use-${group.key}`))?.checked)) continue;
+    for (const f of group.fields) {
+      if (!f.path || f.choices || (f.when && f.when !== kind)) continue;
+      out.push({ group: STUDY_GROUPS[group.key], path: f.path, label: f.label, unit: f.unit });
+    }
+  }
+  return out;
+}
+
+function fillFieldSelect(sel, fields, fallback) {
+  const wanted = sel.value || fallback;
+  sel.replaceChildren();
+  const groups = new Map();
+  for (const f of fields) {
+    if (!groups.has(f.group)) { const og = el('optgroup', { label: f.group }); groups.set(f.group, og); sel.append(og); }
+    groups.get(f.group).append(el('option', { value: f.path, title: f.path, text: `${f.label}${f.unit && f.unit !== '0–1' ? ` (${f.unit})` : ''}` }));
+  }
+  sel.value = fields.some((f) => f.path === wanted) ? wanted : fields.some((f) => f.path === fallback) ? fallback : (fields[0]?.path ?? '');
+}
+
+function refreshStudyFields() {
+  if (!panelsReady) return;
+  const fields = studyFields();
+  fillFieldSelect(/** @type {HTMLSelectElement} */ ($('#sweep-field')), fields, DEFAULT_STUDY_FIELD);
+  for (const sel of document.querySelectorAll('#mc-tolerances .tol-field')) fillFieldSelect(/** @type {HTMLSelectElement} */ (sel), fields, DEFAULT_STUDY_FIELD);
+  updateStudyPreview();
+}
+
+function studyKind() { return /** @type {HTMLInputElement} */ ($('#study-mc')).checked ? 'monte-carlo' : 'grid'; }
+
+const PERCENT = /^([+-]?\d+(?:\.\d+)?|[+-]?\.\d+)%$/;
+
+/** One end of a range as the server will read it: a percentage of `nominal`, or an SI value. */
+function resolveEnd(text, nominal) {
+  const t = text.trim();
+  const pct = PERCENT.exec(t);
+  if (pct) return nominal === undefined ? undefined : nominal * (1 + Number(pct[1]) / 100);
+  return parseSi(t, SI_UNITS);
+}
+
+function addToleranceLine(path = DEFAULT_STUDY_FIELD, percent = '20', distribution = 'uniform') {
+  const holder = $('#mc-tolerances');
+  const n = holder.children.length;
+  const sel = el('select', { class: 'tol-field', 'aria-label': 'Field with a tolerance' });
+  const x = el('input', { type: 'text', class: 'tol-x', value: percent, spellcheck: 'false', 'aria-label': 'Tolerance, ± percent' });
+  const dist = el('select', { class: 'tol-dist', 'aria-label': 'Distribution' },
+    el('option', { value: 'uniform', text: 'uniform' }), el('option', { value: 'normal', text: 'normal, ±X % = 3σ' }));
+  /** @type {HTMLSelectElement} */ (dist).value = distribution;
+  const remove = el('button', { type: 'button', class: 'quiet tol-remove', title: 'Remove this tolerance', 'aria-label': 'Remove this tolerance', text: '×' });
+  const error = el('div', { class: 'field-error', hidden: '' });
+  const line = el('div', { class: 'tol-line', dataset: { line: String(n) } },
+    el('div', { class: 'tol-inputs' }, sel, el('span', { class: 'pm', text: '±' }), x, el('span', { class: 'unit', text: '%' }), dist, remove), error);
+  remove.addEventListener('click', () => { line.remove(); syncToleranceButtons(); });
+  holder.append(line);
+  fillFieldSelect(/** @type {HTMLSelectElement} */ (sel), studyFields(), path);
+  /** @type {HTMLSelectElement} */ (sel).value = path;
+  syncToleranceButtons();
+}
+
+function syncToleranceButtons() {
+  const lines = document.querySelectorAll('#mc-tolerances .tol-line');
+  for (const b of document.querySelectorAll('#mc-tolerances .tol-remove')) /** @type {HTMLButtonElement} */ (b).disabled = lines.length <= 1;
+}
+
+function toleranceSpec(line) {
+  const path = /** @type {HTMLSelectElement} */ (line.querySelector('.tol-field')).value;
+  const x = /** @type {HTMLInputElement} */ (line.querySelector('.tol-x')).value.trim().replace(/^(?:±|\+-|\+\/-)\s*/, '').replace(/\s*%$/, '');
+  const dist = /** @type {HTMLSelectElement} */ (line.querySelector('.tol-dist')).value;
+  return { path, x, text: `${path}=±${x}%:${dist}` };
+}
+
+function syncStudyMode() {
+  const mc = studyKind() === 'monte-carlo';
+  $('#study-grid-inputs').hidden = mc;
+  $('#study-mc-inputs').hidden = !mc;
+  updateStudyPreview();
+}
+
+function updateStudyPreview() {
+  if (!panelsReady) return;
+  const preview = $('#sweep-preview');
+  preview.classList.remove('warn');
+  preview.textContent = '';
+  const path = /** @type {HTMLSelectElement} */ ($('#sweep-field')).value;
+  if (!path) { preview.textContent = 'No numeric field to vary in this scenario.'; return; }
+  const nominal = formNumber(path);
+  const from = resolveEnd(/** @type {HTMLInputElement} */ ($('#sweep-from')).value, nominal);
+  const to = resolveEnd(/** @type {HTMLInputElement} */ ($('#sweep-to')).value, nominal);
+  const stepsText = /** @type {HTMLInputElement} */ ($('#sweep-steps')).value.trim();
+  const steps = /^\d+$/.test(stepsText) ? Number(stepsText) : NaN;
+  if (from === undefined || to === undefined || !Number.isFinite(steps)) {
+    preview.textContent = nominal === undefined ? '' : `value in the form: ${fmtField(path, nominal)}`;
+    return;
+  }
+  const spacing = steps > 1 ? Math.abs(to - from) / (steps - 1) : 0;
+  let text = `${fmtField(path, from)} to ${fmtField(path, to)}, ${steps} point${steps === 1 ? '' : 's'}${steps > 1 ? ` ${fmtField(path, spacing)} apart` : ''}`;
+  if (nominal !== undefined) text += ` · value in the form ${fmtField(path, nominal)}`;
+  const cautions = [];
+  if (nominal !== undefined && nominal > 0) {
+    for (const [which, v] of [['From', from], ['To', to]]) {
+      if (!(v > 0)) cautions.push(`${which} is not above zero: those points will fail`);
+      else if (v / nominal > 10 || v / nominal < 0.1) cautions.push(`${which} is ${fmtNumber(v / nominal, 3)} × the value in the form: is a % sign or a prefix missing?`);
+    }
+  }
+  if (steps > MAX_STUDY_POINTS) cautions.push(`at most ${MAX_STUDY_POINTS} points`);
+  if (cautions.length > 0) { text += ` — ${cautions.join('; ')}`; preview.classList.add('warn'); }
+  preview.textContent = text;
+}
+
+function clearStudyErrors() {
+  for (const box of document.querySelectorAll('#sweep-panel .field-error')) {
+    box.replaceChildren();
+    /** @type {HTMLElement} */ (box).hidden = true;
+  }
+  for (const input of document.querySelectorAll('#sweep-panel [aria-invalid]')) input.removeAttribute('aria-invalid');
+  showMessages($('#sweep-error'), []);
+}
+
+function showStudyError(box, message, inputs = []) {
+  box.append(el('p', { text: message }));
+  box.hidden = false;
+  for (const input of inputs) input?.setAttribute('aria-invalid', 'true');
+}
+
+/** The request body from the panel, or the problems the page can see before asking. */
+function buildStudyRequest(scenario) {
+  const problems = [];
+  if (studyKind() === 'grid') {
+    const field = /** @type {HTMLSelectElement} */ ($('#sweep-field'));
+    const from = /** @type {HTMLInputElement} */ ($('#sweep-from'));
+    const to = /** @type {HTMLInputElement} */ ($('#sweep-to'));
+    const steps = /** @type {HTMLInputElement} */ ($('#sweep-steps'));
+    const box = $('#sweep-vary-error');
+    if (!field.value) problems.push([box, 'expected a field to vary; this scenario has none', [field]]);
+    for (const [name, input] of [['From', from], ['To', to]]) {
+      const text = input.value.trim();
+      if (text === '') problems.push([box, `${name}: expected a percentage of the value in the form (e.g. -20%) or a value with an SI prefix (e.g. 20u)`, [input]]);
+      else if (/\.\.|[:=\s]/.test(text.replace(/\s+(?=[a-zA-Zµμ%Ω])/g, ''))) problems.push([box, `${name}: expected one value, found "${text}" (From and To go in their own boxes)`, [input]]);
+    }
+    const n = steps.value.trim();
+    if (!/^\d+$/.test(n) || Number(n) < 1 || Number(n) > MAX_STUDY_POINTS) problems.push([box, `Steps: expected a whole number of points from 2 to ${MAX_STUDY_POINTS}, found "${n}"`, [steps]]);
+    const spec = `${field.value}=${from.value.trim()}..${to.value.trim()}:${n}`;
+    return { problems, body: { scenario, vary: [spec] }, label: spec, count: Number(n), path: field.value };
+  }
+  const samples = /** @type {HTMLInputElement} */ ($('#mc-samples'));
+  const seed = /** @type {HTMLInputElement} */ ($('#mc-seed'));
+  const asNumber = (text) => (/^[+-]?\d+$/.test(text.trim()) ? Number(text.trim()) : text.trim());
+  const lines = [...document.querySelectorAll('#mc-tolerances .tol-line')];
+  const specs = lines.map((line) => {
+    const s = toleranceSpec(line);
+    if (s.x === '') problems.push([line.querySelector('.field-error'), 'expected the tolerance in percent, e.g. 20 for ±20 %', [line.querySelector('.tol-x')]]);
+    return s.text;
+  });
+  if (lines.length === 0) problems.push([$('#mc-tolerance-error'), 'expected at least one tolerance', []]);
+  return {
+    problems,
+    body: { scenario, samples: asNumber(samples.value), tolerance: specs, seed: asNumber(seed.value) },
+    label: `${samples.value.trim()} samples, seed ${seed.value.trim()}: ${specs.join(', ')}`,
+    count: Number(samples.value) || 0,
+  };
+}
+
+/** A server complaint about the request (body.vary, body.tolerance, …) beside the input it is about. */
+function placeStudyIssue(issue) {
+  const message = issue.message;
+  if (issue.path === 'body.vary') {
+    const inputs = /expected FROM/.test(message) ? [$('#sweep-from')] : /expected TO/.test(message) ? [$('#sweep-to')]
+      : /STEPS|at most \d+ points/.test(message) ? [$('#sweep-steps')] : /no field/.test(message) ? [$('#sweep-field')] : [];
+    showStudyError($('#sweep-vary-error'), message, inputs);
+    return true;
+  }
+  if (issue.path === 'body.samples') { showStudyError($('#mc-samples-error'), message, [$('#mc-samples')]); return true; }
+  if (issue.path === 'body.seed') { showStudyError($('#mc-seed-error'), message, [$('#mc-seed')]); return true; }
+  if (issue.path === 'body.tolerance') {
+    const line = [...document.querySelectorAll('#mc-tolerances .tol-line')].find((l) => message.includes(`"${toleranceSpec(l).text}"`));
+    if (line) showStudyError(line.querySelector('.field-error'), message, [line.querySelector('.tol-x'), line.querySelector('.tol-field')]);
+    else showStudyError($('#mc-tolerance-error'), message, []);
+    return true;
+  }
+  return false;
+}
+
+async function runStudy() {
+  if (!study || study.busy) return;
+  clearStudyErrors();
+  const scenario = readForm();
+  const request = buildStudyRequest(scenario);
+  if (request.problems.length > 0) {
+    for (const [box, message, inputs] of request.problems) showStudyError(box, message, inputs);
+    $('#sweep-status').textContent = 'Not run: see the marked input.';
+    study.panel.dataset.lastOutcome = 'invalid';
+    return;
+  }
+  // The nominal values the percentages referred to, for labelling the answer.
+  const nominals = {};
+  for (const f of studyFields()) nominals[f.path] = formNumber(f.path);
+  $('#sweep-busy-points').textContent = request.count > 0 ? `${request.count} point${request.count === 1 ? '' : 's'}` : '';
+  $('#sweep-status').textContent = '';
+  const run = study.start();
+  const area = $('#sweep-error');
+  clearFieldErrors();
+  let outcome = 'failed';
+  try {
+    const { response, data } = await postJson('/api/sweep', request.body);
+    const seconds = run.seconds();
+    if (response.ok && data && Array.isArray(data.points)) {
+      outcome = 'ok';
+      state.study = { request, data, nominals, seconds };
+      study.panel.classList.remove('stale');
+      $('#sweep-result').hidden = false;
+      drawStudy(state.study);
+      const failed = data.points.filter((p) => p.failure).length;
+      $('#sweep-status').textContent = `${data.points.length} point${data.points.length === 1 ? '' : 's'} in ${seconds} s${failed ? `, ${failed} without a result` : ''}.`;
+    } else if (response.status === 400 && data && Array.isArray(data.issues)) {
+      outcome = 'invalid';
+      const scenarioIssues = data.issues.filter((i) => !placeStudyIssue(i));
+      if (scenarioIssues.length > 0) showIssues(scenarioIssues, (lines) => showMessages(area, lines));
+      $('#sweep-status').textContent = scenarioIssues.length > 0 ? 'Not run: the scenario has a problem (marked in the form).' : 'Not run: see the marked input.';
+    } else {
+      showMessages(area, [failureLine(response, data, ' Fewer points, fewer cycles (solver settings) or a looser tolerance may help.')]);
+      $('#sweep-status').textContent = `Not run (${seconds} s).`;
+    }
+  } catch (error) {
+    showMessages(area, [/** @type {Error} */ (error).message]);
+    $('#sweep-status').textContent = 'Not run.';
+  } finally {
+    if (outcome !== 'ok' && state.study) {
+      study.panel.classList.add('stale');
+      $('#sweep-status').textContent += ' The results below are from the last successful study.';
+    }
+    study.finish(outcome);
+  }
+}
+
+function studyVariantLabel(v, points) {
+  const first = points.find((p) => p.variants && p.variants[v]);
+  return first ? variantLabel(v, { variants: first.variants }) : v;
+}
+
+/** Rating and derated limit at a point, from its own margins (they follow a varied rating). */
+function limitsAt(point, data) {
+  const m = point.variants && Object.values(point.variants).find(Boolean);
+  if (!m) return { rating: data.voltageRating, derated: data.deratedLimit };
+  return { rating: m.peakDrainVoltage + m.marginToRating, derated: m.peakDrainVoltage + m.marginToDeratedLimit };
+}
+
+function describeValues(values, nominals) {
+  return Object.entries(values).map(([path, v]) => {
+    const n = nominals[path];
+    const rel = n ? ` (${v >= n ? '+' : '−'}${fmtNumber(Math.abs(100 * (v / n - 1)), 3)} %)` : '';
+    return `${path} = ${fmtField(path, v)}${rel}`;
+  }).join(', ');
+}
+
+function drawStudy(s) {
+  const { data, request, nominals } = s;
+  const points = data.points;
+  const present = VARIANTS.filter((v) => points.some((p) => p.variants && p.variants[v]));
+  const paths = Object.keys(points[0]?.values ?? {});
+  const mc = data.kind === 'monte-carlo';
+  const summary = $('#sweep-summary');
+  summary.replaceChildren(
+    mc ? `Monte Carlo, ${points.length} samples` : `${data.kind === 'corners' ? 'Corners' : 'Range'} of ${points.length} points`,
+    ' · request ', el('code', { text: request.label }),
+    ` · rating ${fmtVolts(data.voltageRating)}, derated limit ${fmtVolts(data.deratedLimit)} · fields not listed stay at the values in the form`,
+  );
+
+  // The derated limit of a study is the server's default fraction; say so when the form asks for another.
+  const caution = $('#sweep-caution');
+  const derating = formNumber('design.drainDerating');
+  const used = data.deratedLimit / data.voltageRating;
+  if (derating !== undefined && Math.abs(derating - used) > 1e-9) {
+    caution.hidden = false;
+    caution.textContent = `The study’s derated limit is ${fmtNumber(100 * used, 3)} % of the rating (${fmtVolts(data.deratedLimit)}): studies do not apply the design target of ${fmtNumber(100 * derating, 3)} % (${fmtVolts(derating * data.voltageRating)}). Margins and “over the limit” figures below are against ${fmtVolts(data.deratedLimit)}.`;
+  } else caution.hidden = true;
+
+  if (mc) drawStudyHistogram(data, present, points);
+  else drawStudyGrid(data, present, points, paths[0], nominals);
+
+  // Worst point per variant.
+  const wbody = /** @type {HTMLElement} */ ($('#sweep-worst tbody'));
+  wbody.replaceChildren(...present.filter((v) => data.worst[v]).map((v) => {
+    const w = data.worst[v];
+    const { rating, derated } = limitsAt(points[w.index], data);
+    return el('tr', { dataset: { variant: v, index: String(w.index) } },
+      variantHead(v, studyVariantLabel(v, points).split(' · ')[1]),
+      peakCell(w.peakDrainVoltage, rating, derated, { dataset: { metric: 'peakDrainVoltage' } }),
+      marginCell(w.marginToRating),
+      marginCell(w.marginToDeratedLimit),
+      el('td', { text: `${w.index + 1} of ${points.length}` }),
+      el('td', { class: 'left note', text: describeValues(w.values, nominals) }),
+    );
+  }));
+
+  // Monte Carlo spread.
+  $('#sweep-stats-wrap').hidden = !mc;
+  if (mc) {
+    const tbody = /** @type {HTMLElement} */ ($('#sweep-stats tbody'));
+    tbody.replaceChildren(...present.filter((v) => data.monteCarlo?.[v]).map((v) => {
+      const m = data.monteCarlo[v];
+      const over = Math.round(m.fractionOverDeratedLimit * m.samples);
+      const overCell = el('td', { dataset: { value: String(m.fractionOverDeratedLimit), metric: 'fractionOverDeratedLimit' } },
+        `${fmtNumber(100 * m.fractionOverDeratedLimit, 3)} %`, el('span', { class: 'sub', text: `${over} of ${m.samples}` }));
+      if (m.fractionOverDeratedLimit > 0) overCell.classList.add('over-derated');
+      const p = m.percentiles;
+      const pc = (value, key) => peakCell(value, data.voltageRating, data.deratedLimit, { dataset: { metric: key } });
+      return el('tr', { dataset: { variant: v } },
+        variantHead(v, studyVariantLabel(v, points).split(' · ')[1]),
+        el('td', { text: String(m.samples) }), overCell,
+        pc(p.p5, 'p5'), pc(p.p50, 'p50'), pc(p.p95, 'p95'), pc(p.p99, 'p99'), pc(p.max, 'max'));
+    }));
+  }
+
+  // Points without a result, and points that did not settle.
+  const items = [];
+  for (const p of points) {
+    if (p.failure) items.push(el('li', { class: 'warning', dataset: { index: String(p.index) } }, el('b', { text: `point ${p.index + 1}` }), ` (${describeValues(p.values, nominals)}): ${p.failure}`));
+    else {
+      const unsettled = Object.entries(p.variants ?? {}).filter(([, m]) => m && !m.settled).map(([v, m]) => `${v} ${m.orbit}`);
+      if (unsettled.length) items.push(el('li', { class: 'note', dataset: { index: String(p.index) } }, el('b', { text: `point ${p.index + 1}` }), ` (${describeValues(p.values, nominals)}): not settled — ${unsettled.join(', ')}; its peak is over the cycles run`));
+    }
+  }
+  $('#sweep-failures').hidden = items.length === 0;
+  $('#sweep-failures ul').replaceChildren(...items);
+
+  // Every point (folded).
+  const table = $('#sweep-points');
+  table.querySelector('thead').replaceChildren(el('tr', {},
+    el('th', { scope: 'col', text: '#' }),
+    ...paths.map((path) => el('th', { scope: 'col', class: 'path' }, el('code', { text: path }))),
+    ...present.map((v) => el('th', { scope: 'col' }, 'Peak', el('span', { class: 'u', text: v }))),
+  ));
+  table.querySelector('tbody').replaceChildren(...points.map((p) => {
+    const { rating, derated } = limitsAt(p, data);
+    return el('tr', { dataset: { index: String(p.index) } },
+      el('th', { scope: 'row', text: String(p.index + 1) }),
+      ...paths.map((path) => numCell(p.values[path], fmtField(path, p.values[path]))),
+      ...present.map((v) => (p.failure ? el('td', { class: 'na', text: 'failed', title: p.failure })
+        : peakCell(p.variants?.[v]?.peakDrainVoltage, rating, derated, { dataset: { variant: v } }))),
+    );
+  }));
+  /** @type {HTMLElement} */ ($('#sweep-points-fold summary')).textContent = `Every point (${points.length})`;
+}
+
+function drawStudyGrid(data, present, points, path, nominals) {
+  const values = points.map((p) => p.values[path]);
+  const { scale, label } = scaleFor(values, unitOf(path));
+  const x = values.map((v) => v / scale);
+  const field = formField(path);
+  const traces = present.map((v) => ({
+    type: 'scatter', mode: 'lines+markers', meta: `variant:${v}`, name: studyVariantLabel(v, points),
+    x, y: points.map((p) => p.variants?.[v]?.peakDrainVoltage ?? null),
+    customdata: points.map((p) => p.index + 1),
+    line: { color: COLOURS[v], width: 1.8 }, marker: { color: COLOURS[v], size: 7 },
+    hovertemplate: `%{y:.1f} V at %{x:.4g} ${label}<extra>${v} · point %{customdata}</extra>`,
+  }));
+  const lims = points.map((p) => limitsAt(p, data));
+  const flat = lims.every((l) => Math.abs(l.rating - lims[0].rating) < 1e-9);
+  const xs = [Math.min(...x), Math.max(...x)];
+  if (flat) {
+    traces.push(
+      level(xs[0], xs[1], data.voltageRating, `rating ${fmtNumber(data.voltageRating)} V`, 'limit:rating', RATING_COLOUR, 'dash', 1.6),
+      level(xs[0], xs[1], data.deratedLimit, `derated limit ${fmtNumber(data.deratedLimit)} V`, 'limit:derated', DERATED_COLOUR, 'dashdot', 1.4),
+    );
+  } else {
+    // The rating itself is varied: its lines follow the points.
+    const line = (key, name, meta, colour, dash, width) => ({ type: 'scatter', mode: 'lines', name, meta, x, y: lims.map((l) => l[key]), showlegend: false, hoverinfo: 'skip', line: { color: colour, dash, width } });
+    traces.push(line('rating', 'rating', 'limit:rating', RATING_COLOUR, 'dash', 1.6), line('derated', 'derated limit', 'limit:derated', DERATED_COLOUR, 'dashdot', 1.4));
+  }
+  const nominal = nominals[path];
+  const shapes = nominal !== undefined && nominal / scale >= xs[0] && nominal / scale <= xs[1] ? [{
+    type: 'line', xref: 'x', yref: 'paper', x0: nominal / scale, x1: nominal / scale, y0: 0, y1: 1, line: { color: '#8c8372', width: 1, dash: 'dot' },
+  }] : [];
+  const annotations = flat ? [
+    levelTag(data.voltageRating, `rating ${fmtNumber(data.voltageRating)} V`, RATING_COLOUR, 2),
+    levelTag(data.deratedLimit, `derated limit ${fmtNumber(data.deratedLimit)} V`, DERATED_COLOUR, 2),
+  ] : [];
+  if (shapes.length) annotations.push({ x: nominal / scale, xref: 'x', y: 0, yref: 'paper', yanchor: 'bottom', xanchor: 'left', text: ' value in the form', showarrow: false, font: { color: '#6f6757', size: 11.5 } });
+  const layout = {
+    ...BASE_LAYOUT,
+    margin: { l: 62, r: 14, t: 34, b: 52 },
+    legend: { orientation: 'h', x: 0, y: 1.02, yanchor: 'bottom', font: { size: 12.5 } },
+    xaxis: { ...AXIS, title: { text: `${field ? field.label.toLowerCase() : path}${label ? ` (${label})` : ''}` }, zeroline: false },
+    yaxis: { ...AXIS, title: { text: 'settled peak drain–source voltage (V)' } },
+    shapes, annotations,
+  };
+  sweepPlot.dataset.kind = 'grid';
+  Plotly.react(sweepPlot, traces, layout, PLOT_CONFIG);
+}
+
+function drawStudyHistogram(data, present, points) {
+  const traces = present.map((v) => {
+    const peaks = points.map((p) => p.variants?.[v]?.peakDrainVoltage).filter((y) => Number.isFinite(y));
+    return {
+      type: 'histogram', meta: `variant:${v}`, name: studyVariantLabel(v, points), x: peaks,
+      nbinsx: Math.max(8, Math.min(40, Math.round(2 * Math.sqrt(peaks.length)))),
+      marker: { color: COLOURS[v], line: { color: COLOURS[v], width: 1 } }, opacity: 0.6,
+      hovertemplate: `%{y} samples at %{x} V<extra>${v}</extra>`,
+    };
+  });
+  const vline = (x, colour, dash) => ({ type: 'line', xref: 'x', yref: 'paper', x0: x, x1: x, y0: 0, y1: 1, line: { color: colour, dash, width: 1.6 } });
+  // Written up along its line, so the label does not sit on the bars beside it.
+  const tag = (x, text, colour, anchor) => ({ x, xref: 'x', y: 1, yref: 'paper', yanchor: 'top', xanchor: anchor, textangle: -90, text, showarrow: false, font: { color: colour, size: 12 }, bgcolor: 'rgba(255,253,248,0.85)' });
+  const layout = {
+    ...BASE_LAYOUT,
+    barmode: 'overlay',
+    margin: { l: 62, r: 14, t: 34, b: 52 },
+    legend: { orientation: 'h', x: 0, y: 1.02, yanchor: 'bottom', font: { size: 12.5 } },
+    xaxis: { ...AXIS, title: { text: 'settled peak drain–source voltage (V)' } },
+    yaxis: { ...AXIS, title: { text: 'samples' } },
+    shapes: [vline(data.deratedLimit, DERATED_COLOUR, 'dashdot'), vline(data.voltageRating, RATING_COLOUR, 'dash')],
+    annotations: [
+      tag(data.deratedLimit, `derated limit ${fmtNumber(data.deratedLimit)} V `, DERATED_COLOUR, 'right'),
+      tag(data.voltageRating, ` rating ${fmtNumber(data.voltageRating)} V`, RATING_COLOUR, 'left'),
+    ],
+  };
+  sweepPlot.dataset.kind = 'monte-carlo';
+  Plotly.react(sweepPlot, traces, layout, PLOT_CONFIG);
+}
+
+function initPanels() {
+  design = panelRunner('design');
+  study = panelRunner('sweep');
+  $('#design-run').addEventListener('click', () => { void runDesign(); });
+  $('#design-use').addEventListener('click', useDesignParts);
+  $('#design-zoom-turnoff').addEventListener('click', () => { if (state.design) drawDesignPlot(state.design.data, true); });
+  $('#design-zoom-whole').addEventListener('click', () => { if (state.design) drawDesignPlot(state.design.data, false); });
+  $('#sweep-run').addEventListener('click', () => { void runStudy(); });
+  for (const r of document.querySelectorAll('input[name="study-kind"]')) r.addEventListener('change', syncStudyMode);
+  $('#mc-add').addEventListener('click', () => addToleranceLine('clamp.resistance', '5', 'normal'));
+  const panel = $('#sweep-panel');
+  panel.addEventListener('input', (event) => {
+    const target = /** @type {HTMLElement} */ (event.target);
+    target.removeAttribute('aria-invalid');
+    updateStudyPreview();
+  });
+  panel.addEventListener('change', () => updateStudyPreview());
+  panel.addEventListener('keydown', (event) => {
+    const target = /** @type {HTMLElement} */ (event.target);
+    if (event.key === 'Enter' && target.tagName === 'INPUT') { event.preventDefault(); void runStudy(); }
+  });
+  panelsReady = true;
+  refreshStudyFields();
+  addToleranceLine(DEFAULT_STUDY_FIELD, '20', 'uniform');
+  syncStudyMode();
+}
+
 // ---------- wiring ----------
 
 form.addEventListener('submit', (event) => {
@@ -899,8 +1829,11 @@ const resizer = new ResizeObserver((entries) => {
 
 async function start() {
   buildForm();
+  initPanels();
   resizer.observe(drainPlot);
   resizer.observe(clampPlot);
+  resizer.observe(designPlot);
+  resizer.observe(sweepPlot);
   if (!Plotly) {
     showGeneral(['The plotting library did not load (/vendor/plotly.min.js); reload the page.']);
     return;

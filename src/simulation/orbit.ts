@@ -6,6 +6,26 @@
 export type OrbitKind = 'settled' | 'period-2' | 'period-3' | 'period-4' | 'non-periodic' | 'cycle-cap';
 
 const STALL_WINDOW = 100;
+const FIT_WINDOW = 8;
+
+/**
+ * The rest of a geometric tail after the latest change, when the last FIT_WINDOW changes fall
+ * on a line in log scale (R² > 0.9, ρ < 1); zero when they scatter instead.
+ */
+function remainingTail(changes: readonly number[]): number {
+  if (changes.length < FIT_WINDOW) return Infinity;
+  const ys = changes.slice(-FIT_WINDOW).map((c) => Math.log(Math.max(c, 1e-300)));
+  const n = ys.length;
+  const xMean = (n - 1) / 2;
+  const yMean = ys.reduce((a, b) => a + b, 0) / n;
+  let sxy = 0, sxx = 0, syy = 0;
+  ys.forEach((y, i) => { sxy += (i - xMean) * (y - yMean); sxx += (i - xMean) ** 2; syy += (y - yMean) ** 2; });
+  const slope = sxy / sxx;
+  const r2 = syy === 0 ? 1 : (sxy * sxy) / (sxx * syy);
+  const rho = Math.exp(slope);
+  if (!(rho < 1) || r2 < 0.9) return 0;
+  return (changes[changes.length - 1]! * rho) / (1 - rho);
+}
 
 export class OrbitTracker {
   private readonly history: number[][] = [];
@@ -13,6 +33,7 @@ export class OrbitTracker {
   private readonly periodicHits = [0, 0, 0, 0, 0];
   private settledHits = 0;
   private pushes = 0;
+  private readonly componentChanges: number[][] = [];
   /** Latest cycle-to-cycle change, relative to the scales. */
   lastChange = Infinity;
   /** Estimated distance from the steady state, relative to the scales (the change itself when not contracting). */
@@ -34,6 +55,7 @@ export class OrbitTracker {
     if (this.history.length > 0) this.history[this.history.length - 1] = [...state];
     this.history.splice(0, this.history.length - 1);
     this.changes.length = 0;
+    this.componentChanges.length = 0;
     this.settledHits = 0;
     this.periodicHits.fill(0);
   }
@@ -50,14 +72,17 @@ export class OrbitTracker {
       this.lastChange = change;
       this.changes.push(change);
       // Settled: the change stayed below the tolerance three cycles running, and the distance
-      // still to go is small too. The contraction per cycle ρ is estimated over three cycles; when
-      // it is near 1 the change has reached a floor (solver noise, a lossless ring) and the change
-      // itself is the measure; otherwise the rest of the geometric tail, change·ρ/(1 − ρ), counts.
-      const older = this.changes[this.changes.length - 4];
-      const rho = older !== undefined && older > 0 ? (change / older) ** (1 / 3) : 1;
-      this.remaining = rho < 0.98 ? change + (change * rho) / (1 - rho) : change;
+      // still to go is below it too. Over the last cycles the change either falls geometrically
+      // (a slow mode: ρ from a straight-line fit of log(change), the tail change·ρ/(1 − ρ) still
+      // to come) or scatters at a floor set by solver noise or a lossless ring (the change itself
+      // is the measure).
+      // Per component: the ring's scatter in one must not hide the slow clamp voltage in another.
+      const perComponent = h[k]!.map((v, i) => Math.abs(v - h[k - 1]![i]!) / this.scales[i]!);
+      this.componentChanges.push(perComponent);
+      if (this.componentChanges.length > FIT_WINDOW) this.componentChanges.shift();
+      this.remaining = Math.max(...perComponent.map((c, i) => c + remainingTail(this.componentChanges.map((row) => row[i]!))));
       this.settledHits = change < this.tolerance ? this.settledHits + 1 : 0;
-      if (this.settledHits >= 3 && this.remaining < this.tolerance) return 'settled';
+      if (this.settledHits >= 3 && this.componentChanges.length >= FIT_WINDOW && this.remaining < this.tolerance) return 'settled';
       for (let p = 2; p <= 4; p++) {
         if (k < p) continue;
         const recurs = this.distance(h[k]!, h[k - p]!) < this.tolerance;
