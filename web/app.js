@@ -1617,7 +1617,9 @@ function drawStudy(s) {
   summary.replaceChildren(
     mc ? `Monte Carlo, ${points.length} samples` : `${data.kind === 'corners' ? 'Corners' : 'Range'} of ${points.length} points`,
     ' · request ', el('code', { text: request.label }),
-    ` · rating ${fmtVolts(data.voltageRating)}, derated limit ${fmtVolts(data.deratedLimit)} · fields not listed stay at the values in the form`,
+    paths.includes('switch.voltageRating') ? ' · the rating and the derated limit follow the varied rating'
+      : ` · rating ${fmtVolts(data.voltageRating)}, derated limit ${fmtVolts(data.deratedLimit)}`,
+    ' · fields not listed stay at the values in the form',
   );
 
   // The derated limit of a study is the server's default fraction; say so when the form asks for another.
@@ -1726,10 +1728,14 @@ function drawStudyGrid(data, present, points, path, nominals) {
   const shapes = nominal !== undefined && nominal / scale >= xs[0] && nominal / scale <= xs[1] ? [{
     type: 'line', xref: 'x', yref: 'paper', x0: nominal / scale, x1: nominal / scale, y0: 0, y1: 1, line: { color: '#8c8372', width: 1, dash: 'dot' },
   }] : [];
+  const last = lims[lims.length - 1];
   const annotations = flat ? [
     levelTag(data.voltageRating, `rating ${fmtNumber(data.voltageRating)} V`, RATING_COLOUR, 2),
     levelTag(data.deratedLimit, `derated limit ${fmtNumber(data.deratedLimit)} V`, DERATED_COLOUR, 2),
-  ] : [];
+  ] : [
+    { ...levelTag(last.rating, 'rating', RATING_COLOUR, 2), x: x[x.length - 1], xref: 'x' },
+    { ...levelTag(last.derated, 'derated limit', DERATED_COLOUR, 2), x: x[x.length - 1], xref: 'x' },
+  ];
   if (shapes.length) annotations.push({ x: nominal / scale, xref: 'x', y: 0, yref: 'paper', yanchor: 'bottom', xanchor: 'left', text: ' value in the form', showarrow: false, font: { color: '#6f6757', size: 11.5 } });
   const layout = {
     ...BASE_LAYOUT,

@@ -70,8 +70,10 @@ function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: numbe
   const runs = variants.map((v) => runVariant(at, v, deadlineMs === undefined ? {} : { deadlineMs }));
   const report = simulationReport(at, runs, hand.targets.drainDerating);
   const worst = Math.max(report.variants.clamp!.peakDrainVoltage, report.variants.damped!.peakDrainVoltage);
+  // A run that did not settle has no steady-state peak to judge: it cannot pass.
+  const settled = report.variants.clamp!.settled && report.variants.damped!.settled;
   return {
-    corner: { conditions: corner, variants: report.variants, pass: worst <= hand.deratedLimit, margin: hand.deratedLimit - worst },
+    corner: { conditions: corner, variants: report.variants, pass: settled && worst <= hand.deratedLimit, margin: hand.deratedLimit - worst },
     runs,
   };
 }
@@ -126,6 +128,10 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
   }
   if (!worst.corner.pass) notes.push(`After ${adjustments.length} resistor steps the worst case still exceeds the derated limit: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
   const nominal = verify(s, hand, hand.nominal, parts, options.deadlineMs);
+  for (const [name, c] of [['worst case', worst.corner], ['nominal', nominal.corner]] as const) {
+    const unsettled = (['clamp', 'damped'] as const).filter((v) => !c.variants[v]!.settled);
+    if (unsettled.length > 0) notes.push(`At the ${name} the ${unsettled.join(' and ')} variant did not settle (${unsettled.map((v) => c.variants[v]!.orbit).join(', ')}): the corner cannot pass until it does (fixed duty in continuous conduction at high line, or peak-current control above 50 % duty).`);
+  }
 
   const stresses = partStresses(s, hand, parts, worst.corner);
   const damperPower = worst.corner.variants.damped!.damperResistorPower!;
