@@ -109,7 +109,7 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
 
   // The formulas ignore the drain capacitance and the ring after the clamp: they can miss the
   // limit either way. Step the resistor down while the worst case fails…
-  for (let n = 0; !worst.corner.pass && n < MAX_ADJUSTMENT_STEPS; n++) {
+  for (let n = 0; worst.corner.margin < 0 && n < MAX_ADJUSTMENT_STEPS; n++) {
     const r = stepInSeries(parts.r, series, -1);
     parts = { ...parts, r, c: capacitanceFor(r) };
     worst = verify(s, hand, hand.worstCase, parts, options.deadlineMs);
