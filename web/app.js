@@ -1132,9 +1132,10 @@ function drawDesign(data) {
   const rating = Number((bare.peakDrainVoltage + bare.marginToRating).toPrecision(10));
   const derated = hand.deratedLimit;
 
-  const failed = Object.entries(d.verification).filter(([, c]) => !c.pass).map(([k]) => CORNER_LABELS[k] ?? k);
+  const failed = Object.entries(d.verification).filter(([, c]) => !c.pass)
+    .map(([k, c]) => `at the ${CORNER_LABELS[k] ?? k}: ${cornerSettled(c) ? 'over the derated limit' : 'did not settle'}`);
   const verdict = $('#design-verdict');
-  verdict.replaceChildren(verdictBadge(d.pass), ` ${d.pass ? 'both corners within the derated limit' : `over the derated limit at the ${failed.join(' and the ')}`}`);
+  verdict.replaceChildren(verdictBadge(d.pass), ` ${d.pass ? 'both corners within the derated limit' : failed.join('; ')}`);
   verdict.className = `verdict-text ${d.pass ? 'pass' : 'fail'}`;
   verdict.dataset.pass = String(d.pass);
   $('#design-limit').textContent = `derated limit ${fmtVolts(derated)} = ${fmtNumber(100 * hand.targets.drainDerating, 3)} % of the ${fmtVolts(rating)} rating · worst case: ${fmtVolts(wc.conditions.supplyVoltage)} in, leakage ${fmtSi(wc.conditions.leakageInductance, 'H')} (+${fmtNumber(100 * hand.targets.leakageTolerance, 3)} %), ${fmtSi(wc.conditions.peakCurrent, 'A')} at turn-off`;
@@ -1181,7 +1182,13 @@ function drawDesign(data) {
   const vbody = /** @type {HTMLElement} */ ($('#design-verification tbody'));
   vbody.replaceChildren(...Object.entries(d.verification).map(([key, c]) => {
     const v = c.variants;
-    const row = el('tr', { dataset: { corner: key, pass: String(c.pass) } },
+    const settled = cornerSettled(c);
+    const verdictCell = el('td', { class: 'verdict-cell', dataset: { metric: 'verdict' } }, verdictBadge(c.pass));
+    if (!settled) {
+      const which = ['clamp', 'damped'].filter((name) => v[name] && !v[name].settled);
+      verdictCell.append(el('span', { class: 'sub', text: `${which.join(', ')} not settled` }));
+    }
+    const row = el('tr', { dataset: { corner: key, pass: String(c.pass), settled: String(settled) } },
       el('th', { scope: 'row', text: CORNER_LABELS[key] ?? key }),
       numCell(c.conditions.supplyVoltage, fmtVolts(c.conditions.supplyVoltage)),
       numCell(c.conditions.leakageInductance, fmtSi(c.conditions.leakageInductance, 'H')),
@@ -1194,9 +1201,8 @@ function drawDesign(data) {
       numCell(v.clamp?.clampResistorPower, fmtSi(v.clamp?.clampResistorPower, 'W', 3)),
       numCell(v.damped?.damperResistorPower, fmtSi(v.damped?.damperResistorPower, 'W', 3)),
       marginCell(c.margin, { dataset: { metric: 'margin' } }),
-      el('td', { class: 'verdict-cell', dataset: { metric: 'verdict' } }, verdictBadge(c.pass)),
+      verdictCell,
     );
-    // numCell puts data-value; the peak cells also need their metric name for tests.
     return row;
   }));
 
@@ -1252,6 +1258,9 @@ function drawDesign(data) {
 
   drawDesignPlot(data, false);
 }
+
+/** A corner is judged only on settled runs of the clamp and the clamp with damper. */
+function cornerSettled(c) { return ['clamp', 'damped'].every((name) => !c.variants[name] || c.variants[name].settled); }
 
 /**
  * The first turn-off in the worst-case traces: where the bare drain first rises through half its
