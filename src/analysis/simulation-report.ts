@@ -17,7 +17,12 @@ export interface SimulationReport {
   variants: Partial<Record<VariantName, VariantMetrics & { marginToDeratedLimit: number }>>;
 }
 
-export function simulationReport(scenario: Scenario, runs: readonly VariantRun[], derating = DEFAULT_DRAIN_DERATING): SimulationReport {
+/** The scenario's design derating when it has a design block, else the common-practice 80 %. */
+export function drainDerating(scenario: Scenario): number {
+  return scenario.design?.drainDerating ?? DEFAULT_DRAIN_DERATING;
+}
+
+export function simulationReport(scenario: Scenario, runs: readonly VariantRun[], derating = drainDerating(scenario)): SimulationReport {
   const rating = scenario.switch.voltageRating;
   const deratedLimit = rating * derating;
   const variants: SimulationReport['variants'] = {};

@@ -51,11 +51,11 @@ export function designTable(d: DesignResult): string {
   lines.push('', 'Equations');
   for (const e of h.equations) lines.push(`  ${e.quantity.padEnd(42)} ${e.formula.padEnd(46)} ${v(e.value, e.unit).padStart(11)}   [${e.source}]`);
   lines.push('', 'Chosen parts (paste into the scenario file)', `  "clamp": ${JSON.stringify(d.clamp)}`, `  "damper": ${JSON.stringify(d.damper)}`);
-  for (const a of d.adjustments) lines.push(`  adjusted: R = ${v(a.resistance, 'Ω')} (worst-case peak ${v(a.worstCasePeak, 'V')}): ${a.reason}`);
+  for (const a of d.adjustments) lines.push(`  adjusted: R = ${v(a.resistance, 'Ω')}, C = ${v(a.capacitance, 'F')} (worst-case peak ${v(a.worstCasePeak, 'V')}): ${a.reason}`);
   lines.push('', 'Part stresses (worst case, simulated)');
   for (const s of d.stresses) {
     const arr = s.arrangement ? (s.arrangement.ok
-      ? `${s.arrangement.count} × ${s.arrangement.caseName} of ${v(s.arrangement.resistancePerResistor, 'Ω')} in series, ${v(s.arrangement.powerPerResistor, 'W')} and ${v(s.arrangement.voltagePerResistor, 'V')} each${s.arrangement.hotSpot ? ' (hot spot: over 0.1 W per part)' : ''}`
+      ? `${s.arrangement.count} × ${s.arrangement.caseName}${s.preferredPerResistor ? ` of ${v(s.preferredPerResistor.value, 'Ω')} in series (${v(s.preferredPerResistor.total, 'Ω')} in all)` : ''}, ${v(s.arrangement.powerPerResistor, 'W')} and ${v(s.arrangement.voltagePerResistor, 'V')} each${s.arrangement.hotSpot ? ' (hot spot: over 0.1 W per part)' : ''}`
       : `no chip arrangement: ${s.arrangement.reason}`) : '';
     const rating = s.suggestedRating ? `rated ≥ ${v(s.suggestedRating, 'V')} (margin ${(100 * s.voltageMargin!).toFixed(0)} %)` : '';
     lines.push(`  ${s.part.padEnd(16)} ${v(s.value, s.unit).padStart(9)}  working ${v(s.workingVoltage, 'V')}${s.power !== undefined ? `, ${v(s.power, 'W')}` : ''}${s.peakCurrent !== undefined ? `, peak ${v(s.peakCurrent, 'A')}` : ''}  ${rating}${arr}`);

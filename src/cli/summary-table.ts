@@ -39,7 +39,7 @@ export function summaryTable(report: SimulationReport): string {
   const render = (r: string[]): string => r.map((c, i) => (i === 0 ? c.padEnd(widths[i]!) : c.padStart(widths[i]!))).join('   ').trimEnd();
   const lines = [
     `Scenario: ${report.scenario}`,
-    `Supply ${volts(report.supplyVoltage)}, reflected output ${volts(report.reflectedVoltage)}; transistor rating ${volts(report.voltageRating)}, derated limit ${volts(report.deratedLimit)} (80 %, common practice)`,
+    `Supply ${volts(report.supplyVoltage)}, reflected output ${volts(report.reflectedVoltage)}; transistor rating ${volts(report.voltageRating)}, derated limit ${volts(report.deratedLimit)} (${Math.round((100 * report.deratedLimit) / report.voltageRating)} %${Math.abs(report.deratedLimit / report.voltageRating - 0.8) < 1e-9 ? ', common practice' : ', from the design block'})`,
     '',
     render(header),
     ...body.map(render),

@@ -5,7 +5,7 @@
 import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { runVariant, type VariantRun } from '../simulation/run-variant.js';
-import { roundToSeries, stepInSeries } from '../equations/preferred-values.js';
+import { roundToSeries, stepInSeries, type PreferredSeries } from '../equations/preferred-values.js';
 import { chooseResistorArrangement, capacitorVoltageMargin, type ResistorArrangement } from '../equations/part-ratings.js';
 import { handDesign, type Corner, type HandDesign } from './hand-design.js';
 
@@ -35,6 +35,8 @@ export interface PartStress {
   suggestedRating?: number;
   voltageMargin?: number;
   arrangement?: ResistorArrangement;
+  /** For a split resistor: the nearest preferred value for each part, and the total it makes. */
+  preferredPerResistor?: { value: number; total: number };
   note?: string;
 }
 
@@ -44,7 +46,7 @@ export interface DesignResult {
   /** Blocks in the scenario format, to paste into a scenario file. */
   clamp: { resistance: number; capacitance: number; diodeDrop: number };
   damper: { resistance: number; capacitance: number };
-  adjustments: Array<{ resistance: number; worstCasePeak: number; reason: string }>;
+  adjustments: Array<{ resistance: number; capacitance: number; worstCasePeak: number; reason: string }>;
   stresses: PartStress[];
   verification: { worstCase: CornerVerification; nominal: CornerVerification };
   pass: boolean;
@@ -113,7 +115,7 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     const r = stepInSeries(parts.r, series, -1);
     parts = { ...parts, r, c: capacitanceFor(r) };
     worst = verify(s, hand, hand.worstCase, parts, options.deadlineMs);
-    adjustments.push({ resistance: r, worstCasePeak: peakOf(worst), reason: 'the simulated worst case exceeded the derated limit: clamp resistor one standard step down' });
+    adjustments.push({ resistance: r, capacitance: parts.c, worstCasePeak: peakOf(worst), reason: 'the simulated worst case exceeded the derated limit: clamp resistor one standard step down' });
   }
   // …and where the hand design passes, try one step up (less clamp loss) and keep it if it still passes.
   if (adjustments.length === 0 && worst.corner.pass) {
@@ -123,7 +125,7 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     if (tried.corner.pass) {
       parts = trial;
       worst = tried;
-      adjustments.push({ resistance: r, worstCasePeak: peakOf(tried), reason: 'the formulas were pessimistic here: one standard step up still keeps the simulated worst case under the derated limit, with less clamp loss' });
+      adjustments.push({ resistance: r, capacitance: trial.c, worstCasePeak: peakOf(tried), reason: 'the formulas were pessimistic here: one standard step up still keeps the simulated worst case under the derated limit, with less clamp loss' });
     }
   }
   if (!worst.corner.pass) notes.push(`After ${adjustments.length} resistor steps the worst case still exceeds the derated limit: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
@@ -188,5 +190,15 @@ function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: numb
       part: 'damper capacitor', value: parts.cs, unit: 'F', workingVoltage: damped.peakDrainVoltage,
       ...(damperCapRating ? { suggestedRating: damperCapRating, voltageMargin: capacitorVoltageMargin(damped.peakDrainVoltage, damperCapRating) } : {}),
     },
-  ].map((p) => (s.clamp || p.part !== 'clamp diode' ? p : { ...p, note: `${p.note}; diode drop assumed 1.0 V (no clamp block in the scenario)` }));
+  ].map((p: PartStress) => {
+    const a = p.arrangement;
+    const split = a && a.ok && a.count > 1 ? { preferredPerResistor: preferredSplit(p.value, a.count, hand.targets.resistorSeries) } : {};
+    const note = s.clamp || p.part !== 'clamp diode' ? p.note : `${p.note}; diode drop assumed 1.0 V (no clamp block in the scenario)`;
+    return { ...p, ...split, ...(note ? { note } : {}) };
+  });
+}
+
+function preferredSplit(total: number, count: number, series: PreferredSeries): { value: number; total: number } {
+  const value = roundToSeries(total / count, series, 'nearest');
+  return { value, total: value * count };
 }

@@ -58,7 +58,7 @@ export function designReportHtml(scenario: Scenario, d: DesignResult, worstCaseR
   const stress = d.stresses.map((s) => [
     esc(s.part), si(s.value, s.unit), si(s.workingVoltage, 'V'), si(s.power, 'W'), si(s.peakCurrent, 'A'),
     s.suggestedRating ? `≥ ${si(s.suggestedRating, 'V')}` : '',
-    s.arrangement ? (s.arrangement.ok ? esc(`${s.arrangement.count} × ${s.arrangement.caseName}, ${formatSi(s.arrangement.powerPerResistor, 'W')} each`) : esc(s.arrangement.reason)) : '',
+    s.arrangement ? (s.arrangement.ok ? esc(`${s.arrangement.count} × ${s.arrangement.caseName}${s.preferredPerResistor ? ` of ${formatSi(s.preferredPerResistor.value, 'Ω')}` : ''}, ${formatSi(s.arrangement.powerPerResistor, 'W')} each`) : esc(s.arrangement.reason)) : '',
     esc(s.note ?? ''),
   ]);
   return `<!doctype html>
@@ -87,7 +87,7 @@ ${rows(h.equations.map((e) => [esc(e.quantity), `<code>${esc(e.formula)}</code>`
 
 <h2>Chosen parts</h2>
 <p>In the scenario format: <code>"clamp": ${esc(JSON.stringify(d.clamp))}</code>, <code>"damper": ${esc(JSON.stringify(d.damper))}</code></p>
-${d.adjustments.length ? `<ul>${d.adjustments.map((a) => `<li>Clamp resistor ${si(a.resistance, 'Ω')} (worst-case peak ${si(a.worstCasePeak, 'V')}): ${esc(a.reason)}.</li>`).join('')}</ul>` : '<p>The hand design was verified without adjustment.</p>'}
+${d.adjustments.length ? `<ul>${d.adjustments.map((a) => `<li>Clamp resistor ${si(a.resistance, 'Ω')}, capacitor ${si(a.capacitance, 'F')} (worst-case peak ${si(a.worstCasePeak, 'V')}): ${esc(a.reason)}.</li>`).join('')}</ul>` : '<p>The hand design was verified without adjustment.</p>'}
 
 <h2>Part stresses (simulated worst case)</h2>
 <table><tr><th>part</th><th>value</th><th>working voltage</th><th>power</th><th>peak current</th><th>rating</th><th>arrangement</th><th>note</th></tr>

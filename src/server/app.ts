@@ -18,7 +18,7 @@ import { choosePoints } from '../study/choose-points.js';
 import { StudySpecError } from '../study/study-spec.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
 import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
-import { DEFAULT_DRAIN_DERATING } from '../analysis/simulation-report.js';
+import { drainDerating } from '../analysis/simulation-report.js';
 
 export interface ServerOptions {
   scenariosDir: string;
@@ -77,7 +77,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
       admittedCount--;
     }
   }
-  const failed = (failure: string): HttpError => new HttpError(/time cap/.test(failure) ? 504 : 422, `simulation failed: ${failure}`);
+  const failed = (failure: string, what = 'simulation'): HttpError => new HttpError(/time cap/.test(failure) ? 504 : 422, `${what} failed: ${failure}`);
 
   const app = express();
   app.disable('x-powered-by');
@@ -105,7 +105,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const { scenario, warnings } = readScenarioBody(req.body, ['scenario', 'columns']);
     const capMs = 3 * runTimeCapMs; // a design verifies several corners and adjustments
     const result = await admitted(capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, deadlineMs: Date.now() + capMs }, { signal })) as DesignTaskResult;
-    if (!result.ok) throw failed(result.failure);
+    if (!result.ok) throw failed(result.failure, 'design');
     res.json({ ...result, warnings });
   });
 
@@ -136,7 +136,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
       const result = await pool.run({ kind: 'point', scenarioJson: scenarioAtPoint(base, values), deadlineMs }, { signal }) as PointResult;
       return result.ok ? { index, values, variants: result.report.variants } : { index, values, failure: result.failure };
     })));
-    const derated = scenario.switch.voltageRating * DEFAULT_DRAIN_DERATING;
+    const derated = scenario.switch.voltageRating * drainDerating(scenario);
     res.json({
       kind: chosen.kind, voltageRating: scenario.switch.voltageRating, deratedLimit: derated, points,
       worst: worstPerVariant(points),

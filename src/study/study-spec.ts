@@ -27,6 +27,12 @@ export function parseVary(text: string, nominal: (path: string) => number | unde
   if (base === undefined) throw new StudySpecError(`--vary "${text}": expected a numeric scenario field, found no field ${path} in this scenario`);
   const from = parseEnd(m[2]!, base, text, 'FROM');
   const to = parseEnd(m[3]!, base, text, 'TO');
+  // "-20%..+20" (a % forgotten) would sweep to 20 H: an end far from the nominal value is refused.
+  for (const [which, value] of [['FROM', from], ['TO', to]] as const) {
+    if (base !== 0 && !(Math.abs(value / base) >= 1e-3 && Math.abs(value / base) <= 1e3)) {
+      throw new StudySpecError(`--vary "${text}": expected ${which} within a factor of 1000 of the nominal ${base} (a percentage needs its %), found ${value}`);
+    }
+  }
   const steps = m[4] === undefined ? (from === to ? 1 : DEFAULT_STEPS) : Number(m[4]);
   if (!(steps >= 1 && steps <= 1000) || (steps === 1 && from !== to)) {
     throw new StudySpecError(`--vary "${text}": expected STEPS from 2 to 1000 for a range (1 only when FROM equals TO), found ${m[4]}`);

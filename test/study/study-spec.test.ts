@@ -92,3 +92,9 @@ describe('study points', () => {
     expect([percentile(v, 0), percentile(v, 50), percentile(v, 95), percentile(v, 100)]).toEqual([1, 3, 5, 5]);
   });
 });
+
+describe('parseVary(spec, nominal) guards against a forgotten %', () => {
+  it('refuses an end a thousand times the nominal value, pointing at the %', () => {
+    expect(() => parseVary('transformer.leakageInductance=-20%..+20', nominal)).toThrow(/TO within a factor of 1000 of the nominal .*a percentage needs its %/);
+  });
+});
