@@ -34,7 +34,9 @@ export class OdexSegmentIntegrator implements SegmentIntegrator {
     const solver = this.solver;
     solver.initialStepSize = Math.min(problem.initialStep, span);
     solver.maxStepSize = Math.min(problem.maxStep, span);
-    const derivative = (_t: number, y: number[]): number[] => applySystem(system, y, new Array<number>(STATE_SIZE));
+    // odex copies the returned values at once, so one array serves every call of this segment.
+    const rates = new Array<number>(STATE_SIZE);
+    const derivative = (_t: number, y: number[]): number[] => applySystem(system, y, rates);
 
     const m = this.samplesPerStep;
     const probe = new Array<number>(STATE_SIZE);

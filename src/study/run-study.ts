@@ -3,6 +3,7 @@
 
 import { withNumberAt, type ScenarioJson } from '../circuit/scenario-json.js';
 import type { SimulationReport } from '../analysis/simulation-report.js';
+import type { Piscina } from 'piscina';
 import { createPool } from '../workers/create-pool.js';
 import type { PointValues } from './study-points.js';
 import { runPointTask, type PointResult, type PointTask } from './point-task.js';
@@ -19,8 +20,17 @@ export interface StudyRun { points: StudyPoint[]; interrupted: boolean; deratedL
 export interface StudyOptions {
   /** Worker threads; 0 runs the points one after another on this thread. */
   threads?: number;
+  /** A pool to use (and keep) instead of one made for this study, e.g. a warm one. */
+  pool?: StudyPool;
   signal?: AbortSignal;
   onProgress?: (done: number, total: number, failed: number) => void;
+}
+
+export type StudyPool = Piscina<PointTask, PointResult>;
+
+/** A worker pool for study points; the caller destroys it. */
+export function createStudyPool(threads?: number): StudyPool {
+  return createPool<PointTask, PointResult>(import.meta.url, 'point-worker', threads === undefined ? {} : { maxThreads: threads });
 }
 
 export function scenarioAtPoint(base: ScenarioJson, values: PointValues): ScenarioJson {
@@ -49,13 +59,13 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
   };
   const task = (index: number): PointTask => ({ scenarioJson: scenarioAtPoint(base, pointValues[index]!) });
 
-  if ((options.threads ?? 1) === 0) {
+  if (!options.pool && (options.threads ?? 1) === 0) {
     for (let i = 0; i < total && !options.signal?.aborted; i++) {
       record(i, runPointTask(task(i)));
       await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
     }
   } else {
-    const pool = createPool<PointTask, PointResult>(import.meta.url, 'point-worker', options.threads === undefined ? {} : { maxThreads: options.threads });
+    const pool = options.pool ?? createStudyPool(options.threads);
     try {
       await Promise.all(pointValues.map(async (_, i) => {
         try {
@@ -66,7 +76,7 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
         }
       }));
     } finally {
-      await pool.destroy();
+      if (!options.pool) await pool.destroy();
     }
   }
   return {

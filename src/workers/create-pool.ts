@@ -16,5 +16,6 @@ export function createPool<Task, Result>(callerUrl: string, workerBaseName: stri
     minThreads: 0,
     maxThreads: options.maxThreads ?? Math.max(1, availableParallelism()),
     idleTimeout: options.idleTimeoutMs ?? 30_000,
+    resourceLimits: { maxYoungGenerationSizeMb: 128 },
   });
 }
