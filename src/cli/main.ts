@@ -44,7 +44,7 @@ program.command('sweep')
   .option('--seed <n>', 'seed of the Monte Carlo draws', '1')
   .option('--json', 'print one JSON object instead of the table')
   .option('--csv <file>', 'write one row per point')
-  .option('--threads <n>', 'worker threads (default: all cores; 0: this thread only)')
+  .option('--workers <n>', 'worker processes (default: one per core; 0: this process only)')
   .option('--progress', 'report progress even when stderr is not a terminal (one line per point)')
   .action(async (file: string, options: SweepOptions) => {
     await runSweepCommand(file, options);

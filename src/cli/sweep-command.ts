@@ -19,7 +19,7 @@ export interface SweepOptions {
   seed: string;
   json?: boolean;
   csv?: string;
-  threads?: string;
+  workers?: string;
   progress?: boolean;
 }
 
@@ -38,9 +38,9 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
     throw error;
   }
   if (options.csv) await guard(() => checkOutputPath(options.csv!, [file]));
-  const threads = options.threads === undefined ? undefined : Number(options.threads);
-  if (threads !== undefined && !(Number.isInteger(threads) && threads >= 0 && threads <= 64)) {
-    throw new BadInput(`--threads: expected a whole number from 0 (this thread only) to 64, found ${JSON.stringify(options.threads)}`);
+  const workers = options.workers === undefined ? undefined : Number(options.workers);
+  if (workers !== undefined && !(Number.isInteger(workers) && workers >= 0 && workers <= 64)) {
+    throw new BadInput(`--workers: expected a whole number from 0 (this process only) to 64, found ${JSON.stringify(options.workers)}`);
   }
 
   const abort = new AbortController();
@@ -53,7 +53,7 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   const progress = progressLine(points.length, options.progress === true);
   let study: StudyRun;
   try {
-    study = await runStudy(base, points, { signal: abort.signal, onProgress: progress.update, ...(threads === undefined ? {} : { threads }) });
+    study = await runStudy(base, points, { signal: abort.signal, onProgress: progress.update, ...(workers === undefined ? {} : { workers }) });
   } finally {
     process.off('SIGINT', onInterrupt);
     progress.finish();

@@ -1,10 +1,9 @@
-// Runs study points on a worker pool (all cores by default), in order of submission; a failed
+// Runs study points on a pool of worker processes (one per core by default), in order of submission; a failed
 // point is kept with its reason, and an abort keeps the points already finished.
 
 import { withNumberAt, type ScenarioJson } from '../circuit/scenario-json.js';
 import type { SimulationReport } from '../analysis/simulation-report.js';
-import type { Piscina } from 'piscina';
-import { createPool } from '../workers/create-pool.js';
+import { ProcessPool } from '../workers/process-pool.js';
 import type { PointValues } from './study-points.js';
 import { runPointTask, type PointResult, type PointTask } from './point-task.js';
 
@@ -18,19 +17,20 @@ export interface StudyPoint {
 export interface StudyRun { points: StudyPoint[]; interrupted: boolean; deratedLimit: number; voltageRating: number }
 
 export interface StudyOptions {
-  /** Worker threads; 0 runs the points one after another on this thread. */
-  threads?: number;
+  /** Worker processes (default one per core); 0 runs the points one after another in this process. */
+  workers?: number;
   /** A pool to use (and keep) instead of one made for this study, e.g. a warm one. */
   pool?: StudyPool;
   signal?: AbortSignal;
   onProgress?: (done: number, total: number, failed: number) => void;
 }
 
-export type StudyPool = Piscina<PointTask, PointResult>;
+export type StudyPool = ProcessPool<PointTask, PointResult>;
 
-/** A worker pool for study points; the caller destroys it. */
-export function createStudyPool(threads?: number): StudyPool {
-  return createPool<PointTask, PointResult>(import.meta.url, 'point-worker', threads === undefined ? {} : { maxThreads: threads });
+/** A pool of worker processes for study points; the caller destroys it. */
+export function createStudyPool(workers?: number): StudyPool {
+  const fromSource = import.meta.url.endsWith('.ts');
+  return new ProcessPool<PointTask, PointResult>(new URL(`./point-process.${fromSource ? 'ts' : 'js'}`, import.meta.url), workers);
 }
 
 export function scenarioAtPoint(base: ScenarioJson, values: PointValues): ScenarioJson {
@@ -59,17 +59,17 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
   };
   const task = (index: number): PointTask => ({ scenarioJson: scenarioAtPoint(base, pointValues[index]!) });
 
-  if (!options.pool && (options.threads ?? 1) === 0) {
+  if (!options.pool && (options.workers ?? 1) === 0) {
     for (let i = 0; i < total && !options.signal?.aborted; i++) {
       record(i, runPointTask(task(i)));
       await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
     }
   } else {
-    const pool = options.pool ?? createStudyPool(options.threads);
+    const pool = options.pool ?? createStudyPool(options.workers);
     try {
       await Promise.all(pointValues.map(async (_, i) => {
         try {
-          record(i, await pool.run(task(i), options.signal ? { signal: options.signal } : {}));
+          record(i, await pool.run(task(i), options.signal));
         } catch (error) {
           if (options.signal?.aborted) return;
           record(i, { ok: false, failure: `worker error: ${(error as Error).message}` });

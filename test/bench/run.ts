@@ -83,15 +83,15 @@ async function sweepBench(): Promise<boolean> {
   const points = gridPoints([{ path: 'transformer.leakageInductance', from: 0.8 * nominal, to: 1.2 * nominal, steps: 9 }]);
   // Both sides warm: the pool is made once and warmed, as the server keeps its own; its start-up
   // (spawning workers, loading and JIT-compiling the code in each) is reported separately.
-  const threads = availableParallelism();
+  const workers = availableParallelism();
   const time = async (pool?: ReturnType<typeof createStudyPool>): Promise<number> => {
     const t0 = performance.now();
-    const study = await runStudy(base, points, pool ? { pool } : { threads: 0 });
+    const study = await runStudy(base, points, pool ? { pool } : { workers: 0 });
     if (study.points.some((p) => p.failure)) throw new Error('a sweep point failed');
     return performance.now() - t0;
   };
   await time();
-  const pool = createStudyPool(threads);
+  const pool = createStudyPool(workers);
   const coldMs = await time(pool);
   const sequential: number[] = [], pooled: number[] = [];
   try {
@@ -101,7 +101,7 @@ async function sweepBench(): Promise<boolean> {
   }
   const speedUp = median(sequential) / median(pooled);
   const pass = speedUp >= TARGET_SWEEP_SPEED_UP;
-  console.log(`\n9-point leakage sweep, all variants (bias-48v), medians of ${SWEEP_REPEATS}: one after another ${median(sequential).toFixed(0)} ms, warm pool of ${threads} ${median(pooled).toFixed(0)} ms: speed-up ${speedUp.toFixed(2)}× (target ≥ ${TARGET_SWEEP_SPEED_UP}×: ${pass ? 'met' : 'MISSED'}); the first sweep on a new pool took ${coldMs.toFixed(0)} ms`);
+  console.log(`\n9-point leakage sweep, all variants (bias-48v), medians of ${SWEEP_REPEATS}: one after another ${median(sequential).toFixed(0)} ms, warm pool of ${workers} processes ${median(pooled).toFixed(0)} ms: speed-up ${speedUp.toFixed(2)}× (target ≥ ${TARGET_SWEEP_SPEED_UP}×: ${pass ? 'met' : 'MISSED'}); the first sweep on a new pool took ${coldMs.toFixed(0)} ms`);
   return pass;
 }
 

@@ -25,7 +25,7 @@ describe('runStudy(base, points)', () => {
   it('a swept point equals a direct simulate of the same values', async () => {
     const base = await demoJson('scenarios/bias-48v.json');
     const points = [{ 'transformer.leakageInductance': 1.5e-6, 'clamp.resistance': 4700 }];
-    const study = await runStudy(base, points, { threads: 1 });
+    const study = await runStudy(base, points, { workers: 1 });
     const direct = validateScenario(scenarioAtPoint(base, points[0]!));
     if (!direct.ok) throw new Error('invalid');
     const report = simulationReport(direct.scenario, ['bare', 'clamp', 'damped'].map((v) => runVariant(direct.scenario, v as 'bare')));
@@ -34,7 +34,7 @@ describe('runStudy(base, points)', () => {
 
   it('keeps a failed point with its reason and runs the others', async () => {
     const base = await demoJson('scenarios/gate-drive-24v.json');
-    const study = await runStudy(base, [{ 'switch.dutyCycle': 0.3 }, { 'switch.dutyCycle': 0.8 }, { 'switch.dutyCycle': 0.25 }], { threads: 0 });
+    const study = await runStudy(base, [{ 'switch.dutyCycle': 0.3 }, { 'switch.dutyCycle': 0.8 }, { 'switch.dutyCycle': 0.25 }], { workers: 0 });
     expect(study.points.map((p) => p.failure === undefined)).toEqual([true, false, true]);
     expect(study.points[1]!.failure).toMatch(/switch\.dutyCycle/);
   }, 60_000);
@@ -89,7 +89,7 @@ describe('flyclamp sweep (CLI)', () => {
   }, 30_000);
 
   it('Ctrl-C stops cleanly and keeps the finished points in the output', async () => {
-    const child = spawn(process.execPath, ['dist/cli/main.js', 'sweep', 'scenarios/mains-aux-12v.json', '--vary', 'clamp.resistance=40k..80k:40', '--threads', '1', '--json', '--progress']);
+    const child = spawn(process.execPath, ['dist/cli/main.js', 'sweep', 'scenarios/mains-aux-12v.json', '--vary', 'clamp.resistance=40k..80k:40', '--workers', '1', '--json', '--progress']);
     let stdout = '';
     child.stdout.on('data', (d: Buffer) => { stdout += d.toString(); });
     // Interrupt once two points are done (the progress lines say so), however busy the machine is.

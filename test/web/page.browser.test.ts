@@ -1,19 +1,15 @@
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
-import { chromium, type Browser, type Page } from 'playwright-core';
-import { existsSync } from 'node:fs';
+import type { Page } from 'playwright-core';
 import { mkdir, readFile } from 'node:fs/promises';
-import type { Server } from 'node:http';
-import type { AddressInfo } from 'node:net';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { createServer, type FlyclampServer } from '../../src/server/app.js';
+import { startPageSession, type PageSession } from '../support/page-session.js';
 import { formatSi, parseSiNumber } from '../../src/circuit/si-number.js';
 
 // The page in Debian's chromium against the real server (in-process, simulations in its worker
 // pool). Never downloads a browser: CI installs /usr/bin/chromium (.ci/run).
 
 const root = fileURLToPath(new URL('../../', import.meta.url));
-const CHROMIUM = '/usr/bin/chromium';
 const LEAKAGE = 'transformer.leakageInductance';
 
 /** A demo run takes 0.5–1 s, the first one more (worker start-up); plotly is 4.8 MB to parse. */
@@ -33,13 +29,11 @@ function si(value: number | string, unit: string): number {
   return parsed.value;
 }
 
-let server: FlyclampServer;
-let listener: Server;
-let browser: Browser;
+let session: PageSession;
 let page: Page;
 let baseUrl: string;
 let demo: DemoScenario;
-const pageErrors: string[] = [];
+let pageErrors: string[] = [];
 
 /** Waits until the page has finished `count` requests in all (it counts failures too). */
 async function waitForRuns(count: number): Promise<void> {
@@ -75,28 +69,13 @@ async function drainTraces(): Promise<TraceSummary[]> {
 }
 
 beforeAll(async () => {
-  if (!existsSync(CHROMIUM)) {
-    throw new Error(`${CHROMIUM} is missing: apt-get update && apt-get install -y --no-install-recommends chromium`);
-  }
   demo = JSON.parse(await readFile(join(root, 'scenarios', 'bias-48v.json'), 'utf8')) as DemoScenario;
-  // Absolute paths: express's sendFile refuses a relative README path (answers 500).
-  server = createServer({ scenariosDir: join(root, 'scenarios'), webDir: join(root, 'web'), readmeFile: join(root, 'README.md') });
-  listener = server.app.listen(0, '127.0.0.1');
-  await new Promise<void>((ok, fail) => { listener.once('listening', ok); listener.once('error', fail); });
-  baseUrl = `http://127.0.0.1:${(listener.address() as AddressInfo).port}`;
-  browser = await chromium.launch({
-    executablePath: CHROMIUM,
-    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
-      '--disable-background-networking', '--disable-component-update', '--disable-sync'],
-  });
-  page = await browser.newPage({ viewport: { width: 1440, height: 1000 } });
-  page.on('pageerror', (error) => pageErrors.push(error.message));
+  session = await startPageSession();
+  ({ page, baseUrl, pageErrors } = session);
 }, TEST_TIMEOUT_MS);
 
 afterAll(async () => {
-  await browser?.close();
-  if (listener) await new Promise<void>((ok) => listener.close(() => ok()));
-  await server?.close();
+  await session?.close();
 });
 
 describe('the plotting page', () => {

@@ -1,19 +1,15 @@
 import { describe, it, expect, beforeAll, afterAll } from 'vitest';
-import { chromium, type Browser, type Page } from 'playwright-core';
-import { existsSync } from 'node:fs';
+import type { Page } from 'playwright-core';
 import { mkdir } from 'node:fs/promises';
-import type { Server } from 'node:http';
-import type { AddressInfo } from 'node:net';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { createServer, type FlyclampServer } from '../../src/server/app.js';
+import { startPageSession, type PageSession } from '../support/page-session.js';
 import { parseSiNumber } from '../../src/circuit/si-number.js';
 
 // The design and study panels in Debian's chromium against the real server (in-process, work in
 // its worker pool). Never downloads a browser: CI installs /usr/bin/chromium (.ci/run).
 
 const root = fileURLToPath(new URL('../../', import.meta.url));
-const CHROMIUM = '/usr/bin/chromium';
 const SCENARIO = 'mains-aux-12v';
 const LEAKAGE = 'transformer.leakageInductance';
 const VARIANTS = ['bare', 'clamp', 'damped'] as const;
@@ -37,12 +33,10 @@ function si(text: string, unit: string): number {
   return parsed.value;
 }
 
-let server: FlyclampServer;
-let listener: Server;
-let browser: Browser;
+let session: PageSession;
 let page: Page;
 let baseUrl: string;
-const pageErrors: string[] = [];
+let pageErrors: string[] = [];
 
 interface Trace { meta: string; type: string; mode: string; x: number[]; y: Array<number | null> }
 
@@ -110,30 +104,15 @@ async function shoot(id: string, file: string): Promise<void> {
 }
 
 beforeAll(async () => {
-  if (!existsSync(CHROMIUM)) {
-    throw new Error(`${CHROMIUM} is missing: apt-get update && apt-get install -y --no-install-recommends chromium`);
-  }
-  // Absolute paths: express's sendFile refuses a relative README path (answers 500).
-  server = createServer({ scenariosDir: join(root, 'scenarios'), webDir: join(root, 'web'), readmeFile: join(root, 'README.md') });
-  listener = server.app.listen(0, '127.0.0.1');
-  await new Promise<void>((ok, fail) => { listener.once('listening', ok); listener.once('error', fail); });
-  baseUrl = `http://127.0.0.1:${(listener.address() as AddressInfo).port}`;
-  browser = await chromium.launch({
-    executablePath: CHROMIUM,
-    args: ['--headless', '--no-sandbox', '--disable-gpu', '--disable-quic', '--no-first-run',
-      '--disable-background-networking', '--disable-component-update', '--disable-sync'],
-  });
-  page = await browser.newPage({ viewport: { width: 1440, height: 1000 } });
-  page.on('pageerror', (error) => pageErrors.push(error.message));
+  session = await startPageSession();
+  ({ page, baseUrl, pageErrors } = session);
   await page.goto(`${baseUrl}/?scenario=${SCENARIO}`, { timeout: RUN_TIMEOUT_MS });
   // The main simulation runs on load and stays first on the page.
   await page.waitForFunction(() => Number(document.body.dataset.runCount) >= 1 && document.body.dataset.state !== 'busy', null, { timeout: RUN_TIMEOUT_MS });
 }, TEST_TIMEOUT_MS);
 
 afterAll(async () => {
-  await browser?.close();
-  if (listener) await new Promise<void>((ok) => listener.close(() => ok()));
-  await server?.close();
+  await session?.close();
 });
 
 describe('the design panel', () => {
