@@ -93,6 +93,7 @@ async function sweepBench(): Promise<boolean> {
   await time();
   const pool = createStudyPool(workers);
   const coldMs = await time(pool);
+  await time(pool); // the workers' JIT keeps improving over the first sweeps
   const sequential: number[] = [], pooled: number[] = [];
   try {
     for (let i = 0; i < SWEEP_REPEATS; i++) { sequential.push(await time()); pooled.push(await time(pool)); }
