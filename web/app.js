@@ -1218,9 +1218,9 @@ function drawDesign(data) {
     if (p.arrangement && p.arrangement.ok) {
       const a = p.arrangement;
       arrangement = el('td', { class: 'left' },
-        `${a.count} × ${a.caseName}${a.count > 1 ? ` in series, ${fmtSi(a.resistancePerResistor, 'Ω', 3)} each` : ''}`,
+        `${a.count} × ${a.caseName}${a.count > 1 && p.preferredPerResistor ? ` in series, ${fmtSi(p.preferredPerResistor.value, 'Ω', 3)} each` : ''}`,
         el('span', { class: 'sub', text: `${fmtSi(a.powerPerResistor, 'W', 2)} and ${fmtSi(a.voltagePerResistor, 'V', 3)} each; allowed ${fmtSi(a.allowedPower, 'W', 2)}, ${fmtSi(a.allowedVoltage, 'V', 3)}` }));
-      if (a.count > 1) arrangement.append(el('span', { class: 'sub', text: 'per-resistor value unrounded: choose a preferred value near it' }));
+      if (a.count > 1 && p.preferredPerResistor) arrangement.append(el('span', { class: 'sub', text: `nearest preferred value per part: ${fmtSi(p.preferredPerResistor.total, 'Ω', 3)} in all` }));
       if (a.hotSpot) arrangement.append(' ', el('span', { class: 'flag flag-derated', text: 'hot spot', title: 'more than 0.1 W in one chip resistor: mind the copper and its neighbours' }));
     } else if (p.arrangement) {
       arrangement = el('td', { class: 'left over-derated', text: p.arrangement.reason });
