@@ -12,8 +12,7 @@ import { availableVariants, VARIANT_NAMES, type Scenario, type VariantName } fro
 import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
 import type { DesignTaskResult } from './design-task.js';
 import type { ServerTask, ServerTaskResult } from './server-worker.js';
-import type { PointResult } from '../study/point-task.js';
-import { scenarioAtPoint, type StudyPoint } from '../study/run-study.js';
+import { createStudyPool, runStudy, type StudyPool } from '../study/run-study.js';
 import { choosePoints } from '../study/choose-points.js';
 import { StudySpecError } from '../study/study-spec.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
@@ -58,6 +57,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
   // Admission is counted here rather than left to the pool's queue, so "busy" is exact.
   const maxAdmitted = maxConcurrentRuns + (options.maxQueuedRuns ?? 8);
   let admittedCount = 0;
+  // Sweeps run on worker processes, made on the first sweep (they scale better than threads).
+  let studyPool: StudyPool | undefined;
   const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns });
 
   /** Admits one request, runs its tasks on the pool under one time cap, and maps the failures. */
@@ -131,11 +132,11 @@ export function createServer(given: ServerOptions): FlyclampServer {
       throw new HttpError(400, 'invalid request', [{ path: `body.${flag}`, message: error.message.replace(/^--\w+:?\s*/, '') }]);
     }
     const capMs = 6 * runTimeCapMs;
-    const deadlineMs = Date.now() + capMs;
-    const points = await admitted(capMs, (signal) => Promise.all(chosen.points.map(async (values, index): Promise<StudyPoint> => {
-      const result = await pool.run({ kind: 'point', scenarioJson: scenarioAtPoint(base, values), deadlineMs }, { signal }) as PointResult;
-      return result.ok ? { index, values, variants: result.report.variants } : { index, values, failure: result.failure };
-    })));
+    studyPool ??= createStudyPool(maxConcurrentRuns);
+    const pool = studyPool;
+    const study = await admitted(capMs, (signal) => runStudy(base, chosen.points, { pool, signal, deadlineMs: Date.now() + capMs }));
+    if (study.interrupted) throw new HttpError(504, `the sweep took longer than its time cap of ${capMs / 1000} s`);
+    const points = study.points;
     const derated = scenario.switch.voltageRating * drainDerating(scenario);
     res.json({
       kind: chosen.kind, voltageRating: scenario.switch.voltageRating, deratedLimit: derated, points,
@@ -166,7 +167,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
     res.status(500).json({ error: 'internal error in the simulator; the server log has the details' });
   });
 
-  return { app, close: () => pool.destroy() };
+  return { app, close: async () => { await pool.destroy(); await studyPool?.destroy(); } };
 }
 
 /** The issues of a body whose `scenario` is a scenario object; `allowed` are its known fields. */

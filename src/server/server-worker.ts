@@ -1,20 +1,17 @@
-// Piscina worker entry for the server: simulations, designs and sweep points run here, off the
-// request thread.
+// Piscina worker entry for the server: simulations and designs run here, off the request thread
+// (sweep points go to the study's process pool).
 import { runSimulateTask, type SimulateTask, type SimulateTaskResult } from './simulate-task.js';
 import { runDesignTask, type DesignTask, type DesignTaskResult } from './design-task.js';
-import { runPointTask, type PointResult, type PointTask } from '../study/point-task.js';
 
 export type ServerTask =
   | ({ kind: 'simulate' } & SimulateTask)
-  | ({ kind: 'design' } & DesignTask)
-  | ({ kind: 'point' } & PointTask);
+  | ({ kind: 'design' } & DesignTask);
 
-export type ServerTaskResult = SimulateTaskResult | DesignTaskResult | PointResult;
+export type ServerTaskResult = SimulateTaskResult | DesignTaskResult;
 
 export default function serverWorker(task: ServerTask): ServerTaskResult {
   switch (task.kind) {
     case 'simulate': return runSimulateTask(task);
     case 'design': return runDesignTask(task);
-    case 'point': return runPointTask(task);
   }
 }

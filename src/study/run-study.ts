@@ -24,6 +24,8 @@ export interface StudyOptions {
   /** A pool to use (and keep) instead of one made for this study, e.g. a warm one. */
   pool?: StudyPool;
   signal?: AbortSignal;
+  /** Points still running past this Date.now() fail with a time-cap message. */
+  deadlineMs?: number;
   onProgress?: (done: number, total: number, failed: number) => void;
 }
 
@@ -60,10 +62,11 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
     options.onProgress?.(done, total, failed);
   };
   const scenarioAt = (index: number): ScenarioJson => scenarioAtPoint(base, pointValues[index]!);
+  const deadline = options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs };
 
   if (!options.pool && (options.workers ?? 1) === 0) {
     for (let i = 0; i < total && !options.signal?.aborted; i++) {
-      record(i, runPointTask({ scenarioJson: scenarioAt(i) }));
+      record(i, runPointTask({ scenarioJson: scenarioAt(i), ...deadline }));
       await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
     }
   } else {
@@ -74,7 +77,7 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
       const scenarioJson = scenarioAt(i);
       const validated = validateScenario(scenarioJson);
       if (!validated.ok) return runPointTask({ scenarioJson }); // reports the issues
-      const parts = await Promise.all(availableVariants(validated.scenario).map((v) => pool.run({ scenarioJson, variants: [v] }, options.signal)));
+      const parts = await Promise.all(availableVariants(validated.scenario).map((v) => pool.run({ scenarioJson, variants: [v], ...deadline }, options.signal)));
       const failure = parts.find((r): r is Extract<PointResult, { ok: false }> => !r.ok);
       if (failure) return failure;
       const reports = parts.map((r) => (r as Extract<PointResult, { ok: true }>).report);
