@@ -5,8 +5,8 @@ import { designClamp, type DesignResult } from '../design/design-clamp.js';
 import { DesignImpossible } from '../design/hand-design.js';
 import { designReportHtml } from '../design/design-report-html.js';
 import { SimulationFailure } from '../simulation/run-variant.js';
-import { BadInput, SimulationFailed } from './cli-errors.js';
-import { checkOutputPath, OutputPathError, writeFileAtomic } from './write-atomic.js';
+import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
+import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
 
 export interface DesignOptions { json?: boolean; report?: string }
 
@@ -15,7 +15,7 @@ export async function runDesignCommand(file: string, options: DesignOptions): Pr
   if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
   if (options.report) {
     if (!/\.html?$/i.test(options.report)) throw new BadInput(`--report: expected a file name ending in .html, found ${options.report}`);
-    await outputGuard(() => checkOutputPath(options.report!, [file]));
+    await outputFor('--report', () => checkOutputPath(options.report!, [file]));
   }
   let result: ReturnType<typeof designClamp>;
   try {
@@ -27,15 +27,8 @@ export async function runDesignCommand(file: string, options: DesignOptions): Pr
   const { worstCaseRuns, ...json } = result;
   process.stdout.write(options.json ? `${JSON.stringify(json, null, 2)}\n` : `${designTable(json)}\n`);
   if (options.report) {
-    await outputGuard(() => writeFileAtomic(options.report!, designReportHtml(loaded.scenario, json, worstCaseRuns), [file]));
+    await outputFor('--report', () => writeFileAtomic(options.report!, designReportHtml(loaded.scenario, json, worstCaseRuns), [file]));
     if (!options.json) process.stdout.write(`Report written to ${options.report}\n`);
-  }
-}
-
-async function outputGuard<T>(fn: () => Promise<T>): Promise<T> {
-  try { return await fn(); } catch (error) {
-    if (error instanceof OutputPathError) throw new BadInput(`--report ${error.message}`);
-    throw error;
   }
 }
 

@@ -3,10 +3,10 @@ import { availableVariants, type VariantName } from '../circuit/scenario.js';
 import { formatIssues } from '../circuit/validate-scenario.js';
 import { simulationReport } from '../analysis/simulation-report.js';
 import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
-import { BadInput, SimulationFailed } from './cli-errors.js';
+import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { summaryTable } from './summary-table.js';
 import { waveformCsv } from './waveform-csv.js';
-import { checkOutputPath, OutputPathError, writeFileAtomic } from './write-atomic.js';
+import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
 
 export interface SimulateOptions { json?: boolean; csv?: string; variant?: VariantName }
 
@@ -19,14 +19,7 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   if (options.variant && !supported.includes(options.variant)) {
     throw new BadInput(`--variant: expected one of ${supported.join(', ')} for this scenario (the ${options.variant} variant needs a ${options.variant === 'clamp' ? 'clamp' : 'damper'} block), found ${options.variant}`);
   }
-  if (options.csv) {
-    try {
-      await checkOutputPath(options.csv, [file]);
-    } catch (error) {
-      if (error instanceof OutputPathError) throw new BadInput(`--csv ${error.message}`);
-      throw error;
-    }
-  }
+  if (options.csv) await outputFor('--csv', () => checkOutputPath(options.csv!, [file]));
   const variants = options.variant ? [options.variant] : supported;
   const runs: VariantRun[] = [];
   const failures: string[] = [];
@@ -42,12 +35,7 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
     const report = simulationReport(scenario, runs);
     process.stdout.write(options.json ? `${JSON.stringify(report, null, 2)}\n` : `${summaryTable(report)}\n`);
     if (options.csv) {
-      try {
-        await writeFileAtomic(options.csv, waveformCsv(runs), [file]);
-      } catch (error) {
-        if (error instanceof OutputPathError) throw new BadInput(`--csv ${error.message}`);
-        throw error;
-      }
+      await outputFor('--csv', () => writeFileAtomic(options.csv!, waveformCsv(runs), [file]));
       if (!options.json) process.stdout.write(`Waveforms written to ${options.csv}\n`);
     }
   }

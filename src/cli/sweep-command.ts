@@ -8,8 +8,8 @@ import type { PointValues } from '../study/study-points.js';
 import { choosePoints } from '../study/choose-points.js';
 import { runStudy, type StudyPoint, type StudyRun } from '../study/run-study.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
-import { BadInput } from './cli-errors.js';
-import { checkOutputPath, OutputPathError, writeFileAtomic } from './write-atomic.js';
+import { BadInput, outputFor } from './cli-errors.js';
+import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
 
 export interface SweepOptions {
   vary: string[];
@@ -37,7 +37,7 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
     if (error instanceof StudySpecError) throw new BadInput(error.message);
     throw error;
   }
-  if (options.csv) await guard(() => checkOutputPath(options.csv!, [file]));
+  if (options.csv) await outputFor('--csv', () => checkOutputPath(options.csv!, [file]));
   const workers = options.workers === undefined ? undefined : Number(options.workers);
   if (workers !== undefined && !(Number.isInteger(workers) && workers >= 0 && workers <= 64)) {
     throw new BadInput(`--workers: expected a whole number from 0 (this process only) to 64, found ${JSON.stringify(options.workers)}`);
@@ -75,17 +75,10 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   };
   process.stdout.write(options.json ? `${JSON.stringify(result, null, 2)}\n` : `${sweepTable(result.scenario, study, worst, monteCarlo)}\n`);
   if (options.csv) {
-    await guard(() => writeFileAtomic(options.csv!, sweepCsv(study.points), [file]));
+    await outputFor('--csv', () => writeFileAtomic(options.csv!, sweepCsv(study.points), [file]));
     if (!options.json) process.stdout.write(`Points written to ${options.csv}\n`);
   }
   if (study.interrupted) process.exitCode = 130;
-}
-
-async function guard<T>(fn: () => Promise<T>): Promise<T> {
-  try { return await fn(); } catch (error) {
-    if (error instanceof OutputPathError) throw new BadInput(`--csv ${error.message}`);
-    throw error;
-  }
 }
 
 /**

@@ -2,7 +2,7 @@
 // grid, exact extrema (zeros of the affine rate located on the interpolant), and per-cycle
 // energies by Gauss–Legendre quadrature. Memory is bounded by recordedCycles × samplesPerCycle.
 
-import { evaluate, rateOf, IM, IP, VC, VS, type AffineForm } from '../model/affine.js';
+import { evaluate, rateOf, unit, IM, IP, VC, VS, type AffineForm } from '../model/affine.js';
 import type { ModeEntry } from '../model/events.js';
 import { POWER_TERMS, instantaneousPowers, storedEnergy } from '../model/power.js';
 import { SECONDS_PER_TIME_UNIT, modeKey } from '../model/modes.js';
@@ -47,6 +47,9 @@ export interface CycleRecord {
 // Gauss–Legendre, 5 points on [0, 1].
 const GL_NODES = [0.04691007703066800, 0.23076534494715845, 0.5, 0.76923465505284155, 0.95308992296933200];
 const GL_WEIGHTS = [0.11846344252809454, 0.23931433524968324, 0.28444444444444444, 0.23931433524968324, 0.11846344252809454];
+
+const CLAMP_VOLTAGE = unit(VC);
+const PRIMARY_CURRENT = unit(IP);
 
 interface TrackedRates { drain: AffineForm; clamp: AffineForm; clampDiode: AffineForm; primary: AffineForm }
 
@@ -185,9 +188,9 @@ export class CycleRecorder {
       const f = entry.forms;
       r = {
         drain: rateOf(f.drainVoltage, entry.system),
-        clamp: rateOf({ c: [0, 0, 0, 1, 0], k: 0 }, entry.system),
+        clamp: rateOf(CLAMP_VOLTAGE, entry.system),
         clampDiode: rateOf(f.clampDiodeCurrent, entry.system),
-        primary: rateOf({ c: [1, 0, 0, 0, 0], k: 0 }, entry.system),
+        primary: rateOf(PRIMARY_CURRENT, entry.system),
       };
       this.rates.set(entry, r);
     }
@@ -221,13 +224,13 @@ export class CycleRecorder {
       c.drainMaxima.push({ timeSeconds: t * SECONDS_PER_TIME_UNIT, voltage: v, mode: key });
     }, (t) => { c.drainVoltage.min = Math.min(c.drainVoltage.min, valueAt(f.drainVoltage, t)); });
     if (this.params.clamp) {
-      scan(rates.clamp, (t) => { c.clampVoltage.max = Math.max(c.clampVoltage.max, valueAt({ c: [0, 0, 0, 1, 0], k: 0 }, t)); },
-        (t) => { c.clampVoltage.min = Math.min(c.clampVoltage.min, valueAt({ c: [0, 0, 0, 1, 0], k: 0 }, t)); });
+      scan(rates.clamp, (t) => { c.clampVoltage.max = Math.max(c.clampVoltage.max, valueAt(CLAMP_VOLTAGE, t)); },
+        (t) => { c.clampVoltage.min = Math.min(c.clampVoltage.min, valueAt(CLAMP_VOLTAGE, t)); });
       if (entry.mode.drain === 'clamp') {
         scan(rates.clampDiode, (t) => { c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, valueAt(f.clampDiodeCurrent, t)); }, null);
       }
     }
-    scan(rates.primary, (t) => { c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, valueAt({ c: [1, 0, 0, 0, 0], k: 0 }, t)); }, null);
+    scan(rates.primary, (t) => { c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, valueAt(PRIMARY_CURRENT, t)); }, null);
     stateAt(b, x);
     this.point(entry, x);
   }
