@@ -8,15 +8,24 @@ export interface Scenario {
     leakageInductance: number;
     turnsRatio: number;
     primaryResistance: number;
+    /** Capacitance across the primary winding (drain to the supply rail), F. */
+    windingCapacitance: number;
   };
   output: { voltage: number; diodeDrop: number };
   switch: {
     frequency: number;
     control: SwitchControl;
-    drainCapacitance: number;
+    /** Drain-source capacitance: a constant (F) or datasheet points. */
+    drainCapacitance: number | CapacitanceCurve;
     onResistance: number;
     bodyDiodeDrop: number;
     voltageRating: number;
+    /** Where the transistor breaks down and holds the drain, V; absent: no avalanche. */
+    avalancheVoltage?: number;
+    /** Comparator and driver delay from the peak current to the switch opening, s. */
+    turnOffDelay: number;
+    /** The channel current falls linearly to zero over this time after opening, s. */
+    currentFallTime: number;
   };
   clamp?: ClampParts;
   damper?: DamperParts;
@@ -63,7 +72,27 @@ export type SwitchControl =
   | { kind: 'peak-current'; peakCurrent: number; maxDutyCycle: number }
   | { kind: 'fixed-duty'; dutyCycle: number };
 
-export interface ClampParts { resistance: number; capacitance: number; diodeDrop: number }
+/** Datasheet points [voltage V, capacitance F], voltages strictly increasing from 0; ln C is linear between points. */
+export type CapacitanceCurve = ReadonlyArray<readonly [number, number]>;
+
+export interface ClampParts {
+  resistance: number;
+  capacitance: number;
+  diodeDrop: number;
+  /** Stray inductance in series with the clamp diode, H (0: none). */
+  loopInductance: number;
+  /** The clamp diode's junction capacitance while it blocks, F (0: none). */
+  diodeCapacitance: number;
+  /** Datasheet reverse-recovery time at IF = IR, recovered at 0.25·IR, s; absent: an ideal diode. */
+  diodeRecoveryTime?: number;
+  /** Transit time over carrier lifetime, TM/τ, of the charge-control diode model. */
+  diodeTransitTimeRatio: number;
+  /** Datasheet forward-recovery peak voltage VFP, V, and time tfr, s (both or neither). */
+  diodeForwardRecoveryVoltage?: number;
+  diodeForwardRecoveryTime?: number;
+  /** The datasheet's di/dt for VFP and tfr, A/s. */
+  diodeForwardRecoveryRate: number;
+}
 export interface DamperParts { resistance: number; capacitance: number }
 
 export interface SimulationSettings {
@@ -96,6 +125,19 @@ export function availableVariants(scenario: Scenario): VariantName[] {
   if (scenario.damper) names.push('damped');
   return names;
 }
+
+/** Defaults of the optional part fields: ideal parts, as before these fields existed. */
+export const DEFAULT_CLAMP_EXTRAS = {
+  loopInductance: 0,
+  diodeCapacitance: 0,
+  /** TM/τ = 0.1: an assumption (the survey behind the model saw clamp loss move up to 1.6× across this ratio); set it per diode. */
+  diodeTransitTimeRatio: 0.1,
+  /** 100 A/µs, a usual datasheet condition for VFP (from memory). */
+  diodeForwardRecoveryRate: 1e8,
+} as const;
+
+/** Loop inductance assumed when forward recovery is given without one, H: a few nH always exist on a board (common practice). */
+export const FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE = 1e-9;
 
 /** Reflected output voltage VR = n·(Vo + Vf), in volts. */
 export function reflectedVoltage(scenario: Scenario): number {

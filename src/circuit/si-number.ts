@@ -10,7 +10,7 @@ const scaleByPowerOfTen = (x: number, exponent: number): number => (exponent < 0
 
 /** Spellings accepted for each unit symbol (the first is the canonical one). */
 const UNIT_SPELLINGS: Readonly<Record<string, readonly string[]>> = {
-  V: ['V'], A: ['A'], H: ['H'], F: ['F'], Hz: ['Hz'], s: ['s'], W: ['W'],
+  V: ['V'], A: ['A'], H: ['H'], F: ['F'], Hz: ['Hz'], s: ['s'], W: ['W'], 'A/s': ['A/s'],
   'Ω': ['Ω', 'ohm', 'Ohm', 'R'],
 };
 

@@ -2,7 +2,7 @@
 // list of issues, each naming its field path, what was expected and what was found.
 
 import { parseSiNumber } from './si-number.js';
-import { DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type DesignTargets, type Scenario, type SimulationSettings } from './scenario.js';
+import { DEFAULT_CLAMP_EXTRAS, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type SimulationSettings } from './scenario.js';
 
 export interface ValidationIssue { path: string; message: string }
 
@@ -14,9 +14,11 @@ type Range = 'positive' | 'non-negative' | 'fraction' | 'whole' | 'any';
 
 interface NumberField { kind: 'number'; unit: string; range: Range; optional?: number | 'absent'; bounds?: [number, number] }
 interface TextField { kind: 'text' }
+/** A number, or datasheet points [[V, C], …] (a capacitance against voltage). */
+interface CurveField { kind: 'curve'; unit: string }
 interface ChoiceField { kind: 'choice'; options: readonly string[]; optional: string }
 interface BlockSpec { kind: 'block'; optional: boolean; fields: Record<string, FieldSpec> }
-type FieldSpec = NumberField | TextField | ChoiceField | BlockSpec;
+type FieldSpec = NumberField | CurveField | TextField | ChoiceField | BlockSpec;
 
 const num = (unit: string, range: Range, optional?: number | 'absent'): NumberField =>
   optional === undefined ? { kind: 'number', unit, range } : { kind: 'number', unit, range, optional };
@@ -32,6 +34,7 @@ const SCENARIO_SPEC: BlockSpec = block({
     leakageInductance: num('H', 'positive'),
     turnsRatio: num('', 'positive'),
     primaryResistance: num('Ω', 'non-negative', 0),
+    windingCapacitance: num('F', 'non-negative', 0),
   }),
   output: block({ voltage: num('V', 'positive'), diodeDrop: num('V', 'non-negative', 0) }),
   switch: block({
@@ -39,15 +42,25 @@ const SCENARIO_SPEC: BlockSpec = block({
     peakCurrent: num('A', 'positive', 'absent'),
     dutyCycle: num('', 'fraction', 'absent'),
     maxDutyCycle: num('', 'fraction', 0.9),
-    drainCapacitance: num('F', 'positive'),
+    drainCapacitance: { kind: 'curve', unit: 'F' },
     onResistance: num('Ω', 'non-negative'),
     bodyDiodeDrop: num('V', 'non-negative', 0.7),
     voltageRating: num('V', 'positive'),
+    avalancheVoltage: num('V', 'positive', 'absent'),
+    turnOffDelay: num('s', 'non-negative', 0),
+    currentFallTime: num('s', 'non-negative', 0),
   }),
   clamp: block({
     resistance: num('Ω', 'positive'),
     capacitance: num('F', 'positive'),
     diodeDrop: num('V', 'non-negative', 1.0),
+    loopInductance: num('H', 'non-negative', DEFAULT_CLAMP_EXTRAS.loopInductance),
+    diodeCapacitance: num('F', 'non-negative', DEFAULT_CLAMP_EXTRAS.diodeCapacitance),
+    diodeRecoveryTime: num('s', 'positive', 'absent'),
+    diodeTransitTimeRatio: setting('positive', DEFAULT_CLAMP_EXTRAS.diodeTransitTimeRatio, [0.001, 10]),
+    diodeForwardRecoveryVoltage: num('V', 'positive', 'absent'),
+    diodeForwardRecoveryTime: num('s', 'positive', 'absent'),
+    diodeForwardRecoveryRate: { ...num('A/s', 'positive', DEFAULT_CLAMP_EXTRAS.diodeForwardRecoveryRate) },
   }, true),
   damper: block({ resistance: num('Ω', 'positive'), capacitance: num('F', 'positive') }, true),
   design: block({
@@ -137,6 +150,11 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
       else issues.push({ path: fieldPath, message: `expected one of ${field.options.join(', ')}, found ${describe(value)}` });
       continue;
     }
+    if (field.kind === 'curve') {
+      const curve = readCurve(value, field.unit, fieldPath, issues);
+      if (curve !== undefined) out[key] = curve;
+      continue;
+    }
     if (field.kind === 'text') {
       if (typeof value === 'string' && value.trim() !== '') out[key] = value;
       else issues.push({ path: fieldPath, message: `expected a non-empty text, found ${describe(value)}` });
@@ -158,6 +176,41 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
     }
   }
   return out;
+}
+
+/** Most points a capacitance curve may have: datasheet curves are read off at a handful of voltages. */
+export const MAX_CURVE_POINTS = 64;
+
+function readCurve(value: unknown, unit: string, path: string, issues: ValidationIssue[]): number | CapacitanceCurve | undefined {
+  const expected = `a capacitance in ${unit} (a number or a string with an SI prefix) or datasheet points [[V, C], …] with voltages strictly increasing from 0`;
+  if (value === undefined) { issues.push({ path, message: `expected ${expected}, found nothing (the field is required)` }); return undefined; }
+  if (!Array.isArray(value)) {
+    const parsed = parseSiNumber(value, unit);
+    if (!parsed.ok) { issues.push({ path, message: `expected ${expected}, found ${describe(value)}` }); return undefined; }
+    if (!(parsed.value > 0)) { issues.push({ path, message: `expected a capacitance greater than 0, found ${describe(value)}` }); return undefined; }
+    return parsed.value;
+  }
+  if (value.length < 2 || value.length > MAX_CURVE_POINTS) {
+    issues.push({ path, message: `expected from 2 to ${MAX_CURVE_POINTS} points [[V, C], …], found ${value.length} point${value.length === 1 ? '' : 's'}` });
+    return undefined;
+  }
+  const points: Array<readonly [number, number]> = [];
+  const before = issues.length;
+  value.forEach((point: unknown, i: number) => {
+    const at = `${path}[${i}]`;
+    if (!Array.isArray(point) || point.length !== 2) { issues.push({ path: at, message: `expected a point [V, C], found ${describe(point)}` }); return; }
+    const v = parseSiNumber(point[0], 'V');
+    const c = parseSiNumber(point[1], unit);
+    if (!v.ok) issues.push({ path: `${at}[0]`, message: `expected a voltage: ${v.expected}, found ${describe(point[0])}` });
+    if (!c.ok) issues.push({ path: `${at}[1]`, message: `expected a capacitance: ${c.expected}, found ${describe(point[1])}` });
+    else if (!(c.value > 0)) issues.push({ path: `${at}[1]`, message: `expected a capacitance greater than 0, found ${describe(point[1])}` });
+    if (!v.ok || !c.ok) return;
+    if (i === 0 && v.value !== 0) issues.push({ path: `${at}[0]`, message: `expected the curve to start at 0 V, found ${describe(point[0])}` });
+    const last = points[points.length - 1];
+    if (i > 0 && last && !(v.value > last[0])) issues.push({ path: `${at}[0]`, message: `expected a voltage above the previous point's ${last[0]} V (strictly increasing), found ${describe(point[0])}` });
+    points.push([v.value, c.value]);
+  });
+  return issues.length === before ? points : undefined;
 }
 
 function numberExpectation(field: NumberField): string {
@@ -198,6 +251,7 @@ export function validateScenario(input: unknown): ValidationResult {
       leakageInductance: n.leakageInductance!,
       turnsRatio: n.turnsRatio!,
       primaryResistance: n.primaryResistance!,
+      windingCapacitance: n.windingCapacitance!,
     },
     output: { voltage: (raw.output as Record<string, number>).voltage!, diodeDrop: (raw.output as Record<string, number>).diodeDrop! },
     switch: {
@@ -205,10 +259,13 @@ export function validateScenario(input: unknown): ValidationResult {
       control: peakCurrent !== undefined
         ? { kind: 'peak-current', peakCurrent, maxDutyCycle: sw.maxDutyCycle as number }
         : { kind: 'fixed-duty', dutyCycle: dutyCycle! },
-      drainCapacitance: sw.drainCapacitance as number,
+      drainCapacitance: sw.drainCapacitance as number | CapacitanceCurve,
       onResistance: sw.onResistance as number,
       bodyDiodeDrop: sw.bodyDiodeDrop as number,
       voltageRating: sw.voltageRating as number,
+      ...(sw.avalancheVoltage !== undefined ? { avalancheVoltage: sw.avalancheVoltage as number } : {}),
+      turnOffDelay: sw.turnOffDelay as number,
+      currentFallTime: sw.currentFallTime as number,
     },
     simulation: (raw.simulation as unknown as SimulationSettings | undefined) ?? { ...DEFAULT_SIMULATION },
   };
@@ -227,7 +284,7 @@ export function validateScenario(input: unknown): ValidationResult {
       issues.push({ path: 'design.measuredRing.frequencyWithAddedCapacitor', message: `expected a frequency below design.measuredRing.frequency (${ring.frequency} Hz): an added capacitor lowers the ring, found ${ring.frequencyWithAddedCapacitor} Hz` });
     }
   }
-  if (clamp) scenario.clamp = { resistance: clamp.resistance!, capacitance: clamp.capacitance!, diodeDrop: clamp.diodeDrop! };
+  if (clamp) scenario.clamp = { ...clamp } as unknown as ClampParts;
   if (damper) scenario.damper = { resistance: damper.resistance!, capacitance: damper.capacitance! };
 
   const warnings: ValidationIssue[] = [];
@@ -274,6 +331,29 @@ function checkPhysics(s: Scenario, issues: ValidationIssue[], warnings: Validati
       });
     }
   }
+  const av = s.switch.avalancheVoltage;
+  if (av !== undefined && av <= vin + vr) {
+    issues.push({ path: 'switch.avalancheVoltage', message: `expected a breakdown voltage above Vin + VR = ${fmt(vin + vr)} V (the drain settles there every cycle), found ${fmt(av)} V` });
+  } else if (av !== undefined && av < s.switch.voltageRating) {
+    warnings.push({ path: 'switch.avalancheVoltage', message: `a breakdown voltage ${fmt(av)} V below the rating ${fmt(s.switch.voltageRating)} V is unusual (typically 1.1–1.3 × the rating, common practice)` });
+  }
+  if (s.switch.turnOffDelay > 0 && control.kind !== 'peak-current') {
+    warnings.push({ path: 'switch.turnOffDelay', message: 'the delay applies to peak-current control only; with a fixed duty the switch opens at D·T' });
+  }
+  if (s.switch.turnOffDelay + s.switch.currentFallTime >= 0.5 * period) {
+    issues.push({ path: s.switch.currentFallTime > s.switch.turnOffDelay ? 'switch.currentFallTime' : 'switch.turnOffDelay', message: `expected switch.turnOffDelay + switch.currentFallTime well below half the period (${fmt(0.5 * period)} s), found ${fmt(s.switch.turnOffDelay + s.switch.currentFallTime)} s` });
+  }
+  const clamp = s.clamp;
+  if (clamp) {
+    const hasVfp = clamp.diodeForwardRecoveryVoltage !== undefined, hasTfr = clamp.diodeForwardRecoveryTime !== undefined;
+    if (hasVfp !== hasTfr) {
+      issues.push({ path: hasVfp ? 'clamp.diodeForwardRecoveryTime' : 'clamp.diodeForwardRecoveryVoltage', message: 'expected clamp.diodeForwardRecoveryVoltage and clamp.diodeForwardRecoveryTime together (the datasheet gives VFP and tfr as a pair), found only one of them' });
+    } else if (hasVfp && clamp.diodeForwardRecoveryVoltage! <= clamp.diodeDrop) {
+      issues.push({ path: 'clamp.diodeForwardRecoveryVoltage', message: `expected a peak forward voltage above clamp.diodeDrop (${fmt(clamp.diodeDrop)} V), found ${fmt(clamp.diodeForwardRecoveryVoltage!)} V` });
+    } else if (hasVfp && clamp.loopInductance === 0) {
+      warnings.push({ path: 'clamp.loopInductance', message: `forward recovery needs a loop inductance (the diode's modulated resistance against Coss alone is stiff): ${FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE * 1e9} nH is assumed; give the board's value` });
+    }
+  }
   if (s.switch.voltageRating <= vin + vr) {
     warnings.push({
       path: 'switch.voltageRating',
@@ -289,7 +369,7 @@ export function fieldUnit(path: string): string | undefined {
     if (spec.kind !== 'block' || !Object.hasOwn(spec.fields, key)) return undefined;
     spec = spec.fields[key]!;
   }
-  return spec.kind === 'number' ? spec.unit : undefined;
+  return spec.kind === 'number' || spec.kind === 'curve' ? spec.unit : undefined;
 }
 
 export function formatIssues(issues: readonly ValidationIssue[]): string {

@@ -2,7 +2,7 @@
 // settled simulation at the worst-case corner and at nominal, with a one-step adjustment of the
 // clamp resistor where the simulation disagrees with the formulas.
 
-import type { Scenario, VariantName } from '../circuit/scenario.js';
+import { DEFAULT_CLAMP_EXTRAS, type Scenario, type VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { runVariant, type VariantRun } from '../simulation/run-variant.js';
 import { roundToSeries, stepInSeries, type PreferredSeries } from '../equations/preferred-values.js';
@@ -59,9 +59,10 @@ export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, 
   return {
     ...s,
     supply: { voltage: corner.supplyVoltage },
-    transformer: { ...s.transformer, leakageInductance: corner.leakageInductance },
-    switch: { ...s.switch, drainCapacitance: hand.drainCapacitance },
-    clamp: { resistance: parts.r, capacitance: parts.c, diodeDrop: hand.clampDiodeDrop },
+    // A capacitance extracted from a measured ring replaces the part's; otherwise the full curve is verified.
+    switch: { ...s.switch, drainCapacitance: hand.extracted ? hand.extracted.drainCapacitance : s.switch.drainCapacitance },
+    transformer: { ...s.transformer, leakageInductance: corner.leakageInductance, ...(hand.extracted ? { windingCapacitance: 0 } : {}) },
+    clamp: { ...DEFAULT_CLAMP_EXTRAS, ...s.clamp, resistance: parts.r, capacitance: parts.c, diodeDrop: hand.clampDiodeDrop },
     damper: { resistance: parts.rs, capacitance: parts.cs },
   };
 }

@@ -1,6 +1,7 @@
 // The clamp and damper from published equations at the worst case, rounded to preferred values
 // in the direction that keeps the drain under its limit.
 
+import { DrainCapacitance } from '../model/drain-capacitance.js';
 import { reflectedVoltage, DEFAULT_DESIGN, type DesignTargets, type Scenario } from '../circuit/scenario.js';
 import { clampPower, clampResistance, clampRipple, settledClampVoltage } from '../equations/rcd-clamp.js';
 import { roundToSeries } from '../equations/preferred-values.js';
@@ -57,7 +58,8 @@ export function handDesign(s: Scenario): HandDesign {
     return value;
   };
 
-  let coss = s.switch.drainCapacitance;
+  // Where a formula needs one constant, the node capacitance at Vin + VR read off the curve errs least.
+  let coss = new DrainCapacitance(s.switch.drainCapacitance, s.transformer.windingCapacitance).at(s.supply.voltage + vr);
   let llk = s.transformer.leakageInductance;
   let extracted: HandDesign['extracted'];
   if (targets.measuredRing) {

@@ -1,26 +1,25 @@
-// Device events: each is a rising zero crossing of an affine function of the state, valid in
-// one mode, leading to another. Known instants (switch on, fixed-duty turn-off) are not events:
-// the simulation makes them segment boundaries.
+// Device events: each is a rising zero crossing of a function of the state, valid in one mode,
+// leading to another. Known instants (switch on, a timed turn-off, the end of the turn-off delay)
+// are not events: the simulation makes them segment boundaries.
 
-import { combine, constant, evaluate, rateOf, unit, IM, IP, VD, type AffineForm } from './affine.js';
 import type { CircuitParams } from './circuit-params.js';
 import { stateScales } from './circuit-params.js';
-import { buildMode, modeKey, type Mode, type ModeModel } from './modes.js';
+import { ModeModel, RECOVERED_CHARGE_FRACTION, modeKey, type Mode } from './modes.js';
+import { IC, IM, IP, QD, VC, VD, VJ, ICH } from './state.js';
 
-export type DeviceName = 'switch' | 'outputDiode' | 'clampDiode' | 'bodyDiode';
+export type DeviceName = 'switch' | 'channel' | 'outputDiode' | 'clampDiode' | 'bodyDiode' | 'avalanche';
 
 export interface ModeEvent {
   name: string;
   device: DeviceName;
-  g: AffineForm;
-  /** Typical magnitude of g (A or V), for "is it at zero" tests. */
+  /** Rises through zero when the event happens. */
+  g: (x: ArrayLike<number>) => number;
+  /** Typical magnitude of g (A, V or C), for "is it at zero" tests. */
   scale: number;
-  /** dg/dt in this mode (per time unit), for deciding a tie at g = 0. */
-  rate: AffineForm;
   next: Mode;
 }
 
-export interface ModeEntry extends ModeModel { events: ModeEvent[] }
+export interface ModeEntry { model: ModeModel; events: ModeEvent[] }
 
 /** All modes of one variant's circuit, built on first use. */
 export class SwitchingNodeModel {
@@ -37,77 +36,88 @@ export class SwitchingNodeModel {
     const key = modeKey(mode);
     let entry = this.cache.get(key);
     if (!entry) {
-      const built = buildMode(this.params, mode);
-      entry = { ...built, events: this.eventsOf(built).map((e) => ({ ...e, rate: rateOf(e.g, built.system) })) };
+      const model = new ModeModel(this.params, mode);
+      entry = { model, events: this.eventsOf(model) };
       this.cache.set(key, entry);
     }
     return entry;
   }
 
-  private eventsOf(mm: ModeModel): Array<Omit<ModeEvent, 'rate'>> {
-    const p = this.params;
-    const { current, voltage } = this.scales;
-    const { mode, forms } = mm;
-    const events: Array<Omit<ModeEvent, 'rate'>> = [];
-    if (mode.drain === 'switch' && p.control.kind === 'peak-current') {
-      events.push({
-        name: 'switch off (peak current)', device: 'switch', scale: current,
-        g: combine([1, unit(IP)], [1, constant(-p.control.peakCurrent)]),
-        next: { ...mode, drain: 'free' },
-      });
-    }
-    if (mode.outputDiodeOn) {
-      events.push({
-        name: 'output diode off', device: 'outputDiode', scale: current,
-        g: combine([1, unit(IP)], [-1, unit(IM)]),
-        next: { ...mode, outputDiodeOn: false },
-      });
-    } else {
-      events.push({
-        name: 'output diode on', device: 'outputDiode', scale: voltage,
-        g: combine([-1, forms.magnetizingVoltage], [1, constant(-p.reflectedVoltage)]),
-        next: { ...mode, outputDiodeOn: true },
-      });
-    }
-    if (mode.drain === 'free') {
-      if (p.clamp) {
-        events.push({
-          name: 'clamp diode on', device: 'clampDiode', scale: voltage,
-          g: combine([1, unit(VD)], [-1, buildMode(p, { ...mode, drain: 'clamp' }).forms.drainVoltage]),
-          next: { ...mode, drain: 'clamp' },
-        });
-      }
-      events.push({
-        name: 'body diode on', device: 'bodyDiode', scale: voltage,
-        g: combine([-1, unit(VD)], [1, constant(-p.bodyDiodeDrop)]),
-        next: { ...mode, drain: 'body' },
-      });
-    }
-    if (mode.drain === 'clamp') {
-      events.push({
-        name: 'clamp diode off', device: 'clampDiode', scale: current,
-        g: combine([-1, forms.clampDiodeCurrent]),
-        next: { ...mode, drain: 'free' },
-      });
-    }
-    if (mode.drain === 'body') {
-      events.push({
-        name: 'body diode off', device: 'bodyDiode', scale: current,
-        g: combine([-1, forms.bodyDiodeCurrent]),
-        next: { ...mode, drain: 'free' },
-      });
-    }
-    return events;
-  }
-
-  /**
-   * Makes the state consistent with a mode just entered: algebraic drain voltages take their
-   * constrained value and, with the output diode off, im = ip.
-   */
+  /** Enters a mode: its entry, with x made consistent with it. */
   enter(mode: Mode, x: number[]): ModeEntry {
     const entry = this.entry(mode);
-    if (mode.drain !== 'free') x[VD] = evaluate(entry.forms.drainVoltage, x);
-    if (!mode.outputDiodeOn) x[IM] = x[IP]!;
+    entry.model.enter(x);
     return entry;
+  }
+
+  private eventsOf(mm: ModeModel): ModeEvent[] {
+    const p = this.params;
+    const { current, voltage } = this.scales;
+    const mode = mm.mode;
+    const sig = (x: ArrayLike<number>) => mm.signals(x);
+    const events: ModeEvent[] = [];
+    const add = (name: string, device: DeviceName, scale: number, next: Partial<Mode>, g: ModeEvent['g']): void => {
+      events.push({ name, device, scale, next: { ...mode, ...next }, g });
+    };
+
+    if (mode.drain === 'switch' && p.control.kind === 'peak-current') {
+      const ipk = p.control.peakCurrent;
+      add('peak current reached', 'switch', current, { drain: 'free', channelFalling: p.currentFallTime > 0 }, (x) => x[IP]! - ipk);
+    }
+    if (mode.outputDiodeOn) {
+      add('output diode off', 'outputDiode', current, { outputDiodeOn: false }, (x) => x[IP]! - x[IM]!);
+    } else {
+      const vr = p.reflectedVoltage;
+      add('output diode on', 'outputDiode', voltage, { outputDiodeOn: true }, (x) => -sig(x).magnetizingVoltage - vr);
+    }
+    if (mode.channelFalling) add('channel current at zero', 'channel', current, { channelFalling: false }, (x) => -x[ICH]!);
+
+    const clamp = p.clamp;
+    if (clamp) {
+      const vin = p.supplyVoltage, vf = clamp.diodeDrop;
+      const rec = clamp.recovery;
+      const recovered = rec ? RECOVERED_CHARGE_FRACTION * current * rec.transitTime : 0;
+      // Ideal: the diode stops when its current falls to 0. Charge control: when the junction
+      // charge qE = q + TM·i does, and the current source of the recovery takes over.
+      const stopName = rec ? 'clamp diode recovering' : 'clamp diode off';
+      const stopTo: Mode['clampDiode'] = rec ? 'recovering' : 'off';
+      const stopping = (i: (x: ArrayLike<number>) => number) => (x: ArrayLike<number>) => -(i(x) + (rec ? x[QD]! / rec.transitTime : 0));
+      if (clamp.loopInductance > 0) {
+        // The branch has a state of its own: its events hold whatever pins the drain.
+        const cj = clamp.diodeCapacitance;
+        if (mode.clampDiode === 'off') {
+          add('clamp diode on', 'clampDiode', voltage, { clampDiode: 'on' },
+            cj > 0 ? (x) => x[VJ]! - vf : (x) => sig(x).drainVoltage - (vin + x[VC]!) - vf);
+        } else if (mode.clampDiode === 'on') {
+          add(stopName, 'clampDiode', current, { clampDiode: stopTo }, stopping((x) => x[IC]!));
+        } else {
+          add('clamp diode on', 'clampDiode', voltage, { clampDiode: 'on' }, (x) => sig(x).clampDiodeVoltage - vf);
+          add('clamp diode recovered', 'clampDiode', recovered, { clampDiode: 'off' }, (x) => recovered - x[QD]!);
+        }
+      } else if (mode.drain === 'clamp') {
+        add(stopName, 'clampDiode', current, { drain: 'free', clampDiode: stopTo }, stopping((x) => sig(x).clampDiodeCurrent));
+        if (p.avalancheVoltage !== null) {
+          const vav = p.avalancheVoltage;
+          add('avalanche (clamp above breakdown)', 'avalanche', voltage, { drain: 'avalanche', clampDiode: 'off' }, (x) => vin + x[VC]! + vf - vav);
+        }
+      } else if (mode.drain === 'free' || mode.drain === 'avalanche') {
+        add('clamp diode on', 'clampDiode', voltage, { drain: 'clamp', clampDiode: 'on' }, (x) => sig(x).drainVoltage - (vin + x[VC]!) - vf);
+      }
+      if (clamp.loopInductance === 0 && mode.clampDiode === 'recovering') {
+        add('clamp diode recovered', 'clampDiode', recovered, { clampDiode: 'off' }, (x) => recovered - x[QD]!);
+      }
+    }
+
+    if (mode.drain === 'free') {
+      const vb = p.bodyDiodeDrop;
+      add('body diode on', 'bodyDiode', voltage, { drain: 'body' }, (x) => -x[VD]! - vb);
+      if (p.avalancheVoltage !== null) {
+        const vav = p.avalancheVoltage;
+        add('avalanche', 'avalanche', voltage, { drain: 'avalanche' }, (x) => x[VD]! - vav);
+      }
+    }
+    if (mode.drain === 'body') add('body diode off', 'bodyDiode', current, { drain: 'free' }, (x) => -sig(x).bodyDiodeCurrent);
+    if (mode.drain === 'avalanche') add('avalanche ends', 'avalanche', current, { drain: 'free' }, (x) => -sig(x).avalancheCurrent);
+    return events;
   }
 }

@@ -1,97 +1,263 @@
-// Modes of the switching node and their linear systems. A mode is the set of conducting
-// devices; conducting devices are algebraic constraints on the drain voltage, never tiny
-// resistances against Coss (that would be a picosecond time constant an explicit solver cannot step).
+// Modes of the switching node and their dynamics. A mode is the set of conducting devices; a
+// conducting device that pins the drain (the on-switch, an ideal clamp diode with no loop
+// inductance, the body diode, avalanche) is an algebraic constraint on the drain voltage, never a
+// tiny resistance against Coss (that would be a picosecond time constant an explicit solver cannot
+// step). Each mode is a vector field dx/dt = f(x); where every part in it is linear the same field
+// is also available as dx/dt = A·x + b for exact propagators.
 
-import { combine, constant, rateOf, systemFromRows, unit, IM, IP, STATE_SIZE, VC, VD, VS, type AffineForm, type AffineSystem } from './affine.js';
+import type { AffineSystem } from './affine.js';
 import type { CircuitParams } from './circuit-params.js';
+import { IC, ICH, IM, IP, KF, QD, VC, VD, VJ, VS, stateSizeFor } from './state.js';
 
 /** The model integrates in microseconds: odex clamps its first step to ≥ 1e-4 of its time unit. */
 export const SECONDS_PER_TIME_UNIT = 1e-6;
 
-export type DrainState = 'switch' | 'free' | 'clamp' | 'body';
-export interface Mode { drain: DrainState; outputDiodeOn: boolean }
+/** What holds the drain: the on-switch, nothing (free), the clamp diode (no loop inductance), the body diode, avalanche. */
+export type DrainState = 'switch' | 'free' | 'clamp' | 'body' | 'avalanche';
+export type ClampDiodeState = 'off' | 'on' | 'recovering';
 
-export const modeKey = (m: Mode): string => `${m.drain}${m.outputDiodeOn ? '+out' : ''}`;
-
-/** Affine quantities of one mode, all evaluated on the state (currents in A, voltages in V). */
-export interface ModeForms {
-  drainVoltage: AffineForm;
-  damperCurrent: AffineForm;
-  clampDiodeCurrent: AffineForm;
-  bodyDiodeCurrent: AffineForm;
-  /** Current in the transistor's channel while on (drain to source). */
-  switchCurrent: AffineForm;
-  magnetizingVoltage: AffineForm;
-  /** Secondary current referred to the primary, im − ip while the output diode conducts. */
-  secondaryCurrent: AffineForm;
+export interface Mode {
+  drain: DrainState;
+  outputDiodeOn: boolean;
+  /** With no loop inductance, 'on' goes with drain 'clamp'. */
+  clampDiode: ClampDiodeState;
+  /** The channel current is still falling after the switch opened. */
+  channelFalling: boolean;
 }
 
-export interface ModeModel { mode: Mode; system: AffineSystem; forms: ModeForms }
+export const SWITCH_ON: Mode = { drain: 'switch', outputDiodeOn: false, clampDiode: 'off', channelFalling: false };
 
-const ZERO = constant(0);
+export const modeKey = (m: Mode): string => {
+  const diode = m.drain === 'clamp' || m.clampDiode === 'off' ? '' : m.clampDiode === 'on' ? '+cd' : '+rr';
+  return `${m.drain}${m.outputDiodeOn ? '+out' : ''}${diode}${m.channelFalling ? '+fall' : ''}`;
+};
 
-export function buildMode(p: CircuitParams, mode: Mode): ModeModel {
-  const vin = p.supplyVoltage;
-  const lm = p.magnetizingInductance;
-  const llk = p.leakageInductance;
-  const coss = p.drainCapacitance;
-  const rs = p.damper?.resistance;
-  const vs = unit(VS);
-  const ip = unit(IP);
+/** Every current (A), voltage (V) and rate (per second) of the circuit at one state, in one mode. */
+export interface Signals {
+  drainVoltage: number;
+  damperCurrent: number;
+  /** Channel current while it falls after opening. */
+  fallingChannelCurrent: number;
+  /** Channel current while on (drain to source). */
+  switchCurrent: number;
+  /** The clamp diode's own current (its junction capacitance's excluded) and voltage (anode − cathode). */
+  clampDiodeCurrent: number;
+  clampDiodeVoltage: number;
+  /** Current leaving the drain into the clamp branch (returned to the rail). */
+  clampBranchCurrent: number;
+  bodyDiodeCurrent: number;
+  avalancheCurrent: number;
+  magnetizingVoltage: number;
+  /** Secondary current referred to the primary, im − ip while the output diode conducts. */
+  secondaryCurrent: number;
+  /** dx/dt per second. */
+  rates: number[];
+}
 
-  let vd: AffineForm;
-  switch (mode.drain) {
-    case 'free': vd = unit(VD); break;
-    case 'clamp': vd = combine([1, constant(vin + (p.clamp?.diodeDrop ?? 0))], [1, unit(VC)]); break;
-    case 'body': vd = constant(-p.bodyDiodeDrop); break;
-    case 'switch': {
-      // Switch in parallel with the damper branch: vd·(1/Ron + 1/Rs) = ip + vs/Rs.
-      if (rs === undefined) { vd = unit(IP, p.onResistance); break; }
-      const rPar = (p.onResistance * rs) / (p.onResistance + rs);
-      vd = combine([rPar, ip], [rPar / rs, vs]);
-      break;
+/** Stored charge below which a recovering diode counts as recovered, relative to scale·TM. */
+export const RECOVERED_CHARGE_FRACTION = 1e-6;
+
+export class ModeModel {
+  readonly key: string;
+  readonly size: number;
+  /** Present when every part in this mode is linear (constant capacitances, no forward recovery). */
+  readonly linear: boolean;
+  private readonly s: Signals;
+  private systemCache: AffineSystem | null = null;
+
+  constructor(readonly params: CircuitParams, readonly mode: Mode) {
+    this.key = modeKey(mode);
+    this.size = stateSizeFor(params);
+    this.linear = params.drainNode.isConstant && !params.clamp?.forwardRecovery;
+    this.s = {
+      drainVoltage: 0, damperCurrent: 0, fallingChannelCurrent: 0, switchCurrent: 0,
+      clampDiodeCurrent: 0, clampDiodeVoltage: 0, clampBranchCurrent: 0, bodyDiodeCurrent: 0,
+      avalancheCurrent: 0, magnetizingVoltage: 0, secondaryCurrent: 0, rates: new Array<number>(this.size).fill(0),
+    };
+  }
+
+  /**
+   * Evaluates every signal at x. The returned object is reused by the next call: read what you
+   * need before calling again.
+   */
+  signals(x: ArrayLike<number>): Signals {
+    const p = this.params;
+    const m = this.mode;
+    const s = this.s;
+    const d = s.rates;
+    d.fill(0);
+    const vin = p.supplyVoltage;
+    const ip = x[IP]!, vc = x[VC]!, vs = x[VS]!;
+    const clamp = p.clamp;
+    const loop = clamp ? clamp.loopInductance : 0;
+    const rec = clamp?.recovery ?? null;
+    const q = clamp && (rec || clamp.forwardRecovery) ? x[QD]! : 0;
+    const rs = p.damper?.resistance;
+
+    // The clamp branch current as far as the state fixes it (the ideal no-loop clamp's is algebraic, below).
+    let branch = 0;
+    if (clamp && loop > 0) branch = x[IC]!;
+    else if (clamp && m.clampDiode === 'recovering') branch = -q / rec!.transitTime;
+
+    let vd: number;
+    switch (m.drain) {
+      case 'free': vd = x[VD]!; break;
+      case 'clamp': vd = vin + vc + clamp!.diodeDrop; break;
+      case 'body': vd = -p.bodyDiodeDrop; break;
+      case 'avalanche': vd = p.avalancheVoltage!; break;
+      case 'switch': {
+        // The channel carries what the winding brings less the damper and the clamp branch.
+        if (rs === undefined) vd = p.onResistance * (ip - branch);
+        else {
+          const rPar = (p.onResistance * rs) / (p.onResistance + rs);
+          vd = rPar * (ip - branch + vs / rs);
+        }
+        break;
+      }
     }
-  }
-  const id = rs === undefined ? ZERO : combine([1 / rs, vd], [-1 / rs, vs]);
-  // Voltage left for the two inductances after the winding resistance: u = Vin − vd − Rp·ip.
-  const u = combine([1, constant(vin)], [-1, vd], [-p.primaryResistance, ip]);
+    const id = rs === undefined ? 0 : (vd - vs) / rs;
+    const ich = m.channelFalling ? x[ICH]! : 0;
+    if (p.damper) d[VS] = id / p.damper.capacitance;
 
-  const perSecond: AffineForm[] = new Array<AffineForm>(STATE_SIZE).fill(ZERO);
-  let vm: AffineForm;
-  if (mode.outputDiodeOn) {
-    vm = constant(-p.reflectedVoltage);
-    perSecond[IM] = constant(-p.reflectedVoltage / lm);
-    perSecond[IP] = combine([1 / llk, u], [1 / llk, constant(p.reflectedVoltage)]);
-  } else {
-    vm = combine([lm / (lm + llk), u]);
-    perSecond[IP] = combine([1 / (lm + llk), u]);
-    perSecond[IM] = perSecond[IP]!;
-  }
-  perSecond[VS] = p.damper ? combine([1 / p.damper.capacitance, id]) : ZERO;
-
-  let icd = ZERO;
-  if (p.clamp) {
-    const { resistance: rc, capacitance: cc } = p.clamp;
-    if (mode.drain === 'clamp') {
-      perSecond[VC] = combine([1 / (cc + coss), ip], [-1 / (cc + coss), id], [-1 / (rc * (cc + coss)), unit(VC)]);
-      icd = combine([1, ip], [-1, id], [-coss, perSecond[VC]!]);
+    // Winding: u is what is left for the two inductances after the winding resistance.
+    const lm = p.magnetizingInductance, llk = p.leakageInductance;
+    const u = vin - vd - p.primaryResistance * ip;
+    if (m.outputDiodeOn) {
+      d[IP] = (u + p.reflectedVoltage) / llk;
+      d[IM] = -p.reflectedVoltage / lm;
+      s.magnetizingVoltage = -p.reflectedVoltage;
+      s.secondaryCurrent = x[IM]! - ip;
     } else {
-      perSecond[VC] = unit(VC, -1 / (rc * cc));
+      d[IP] = u / (lm + llk);
+      d[IM] = d[IP]!;
+      s.magnetizingVoltage = (lm * u) / (lm + llk);
+      s.secondaryCurrent = 0;
     }
-  }
-  perSecond[VD] = mode.drain === 'free'
-    ? combine([1 / coss, ip], [-1 / coss, id])
-    : rateOf(vd, systemFromRows(perSecond));
 
-  const system = systemFromRows(perSecond.map((row) => combine([SECONDS_PER_TIME_UNIT, row])));
-  const forms: ModeForms = {
-    drainVoltage: vd,
-    damperCurrent: id,
-    clampDiodeCurrent: icd,
-    bodyDiodeCurrent: mode.drain === 'body' ? combine([1, id], [-1, ip]) : ZERO,
-    switchCurrent: mode.drain === 'switch' ? combine([1, ip], [-1, id]) : ZERO,
-    magnetizingVoltage: vm,
-    secondaryCurrent: mode.outputDiodeOn ? combine([1, unit(IM)], [-1, ip]) : ZERO,
-  };
-  return { mode, system, forms };
+    let iD = 0, vDiode = 0, dBranch = 0;
+    if (clamp) {
+      const vk = vin + vc;
+      const vf = clamp.diodeDrop;
+      let dq = 0;
+      if (loop > 0) {
+        const cj = clamp.diodeCapacitance;
+        if (m.clampDiode === 'on') {
+          const fr = clamp.forwardRecovery;
+          vDiode = vf + (fr ? (branch * fr.resistance * fr.charge) / (fr.charge + q) : 0);
+          d[IC] = (vd - vDiode - vk) / loop;
+          iD = branch;
+          dq = rec ? iD - q / rec.lifetime : iD;
+        } else if (m.clampDiode === 'recovering') {
+          iD = -q / rec!.transitTime;
+          dq = -q * (1 / rec!.lifetime + 1 / rec!.transitTime);
+          if (cj > 0) {
+            d[VJ] = (branch - iD) / cj;
+            d[IC] = (vd - x[VJ]! - vk) / loop;
+            vDiode = x[VJ]!;
+          } else {
+            // In series with the loop, the current source sets the branch current.
+            d[IC] = -dq / rec!.transitTime;
+            vDiode = vd - vk - loop * d[IC]!;
+          }
+        } else if (cj > 0) {
+          d[VJ] = branch / cj;
+          d[IC] = (vd - x[VJ]! - vk) / loop;
+          vDiode = x[VJ]!;
+        } else {
+          vDiode = vd - vk;
+        }
+        dBranch = d[IC]!;
+        d[VC] = (branch - vc / clamp.resistance) / clamp.capacitance;
+      } else if (m.drain === 'clamp') {
+        // Coss moves with the clamp capacitor while the diode pins the drain to it.
+        const cNode = p.drainNode.at(vd);
+        d[VC] = (ip - id - ich - vc / clamp.resistance) / (clamp.capacitance + cNode);
+        iD = ip - id - ich - cNode * d[VC]!;
+        branch = iD;
+        vDiode = vf;
+        dq = rec ? iD - q / rec.lifetime : 0;
+      } else {
+        if (m.clampDiode === 'recovering') {
+          iD = branch;
+          dq = -q * (1 / rec!.lifetime + 1 / rec!.transitTime);
+          dBranch = -dq / rec!.transitTime;
+        }
+        vDiode = vd - vk;
+        d[VC] = (branch - vc / clamp.resistance) / clamp.capacitance;
+      }
+      if (rec || clamp.forwardRecovery) d[QD] = m.clampDiode === 'off' ? 0 : dq;
+    }
+
+    const inflow = ip - id - ich - branch;
+    switch (m.drain) {
+      case 'free': d[VD] = inflow / p.drainNode.at(vd); break;
+      case 'clamp': d[VD] = d[VC]!; break;
+      case 'switch': {
+        if (rs === undefined) d[VD] = p.onResistance * (d[IP]! - dBranch);
+        else {
+          const rPar = (p.onResistance * rs) / (p.onResistance + rs);
+          d[VD] = rPar * (d[IP]! - dBranch + d[VS]! / rs);
+        }
+        break;
+      }
+      default: d[VD] = 0;
+    }
+    if (m.channelFalling) d[ICH] = -x[KF]!;
+
+    s.drainVoltage = vd;
+    s.damperCurrent = id;
+    s.fallingChannelCurrent = ich;
+    s.switchCurrent = m.drain === 'switch' ? inflow : 0;
+    s.clampDiodeCurrent = iD;
+    s.clampDiodeVoltage = vDiode;
+    s.clampBranchCurrent = branch;
+    s.bodyDiodeCurrent = m.drain === 'body' ? -inflow : 0;
+    s.avalancheCurrent = m.drain === 'avalanche' ? inflow : 0;
+    return s;
+  }
+
+  /** dx/dt per model time unit (µs). */
+  derivative(x: ArrayLike<number>, out: number[]): number[] {
+    const rates = this.signals(x).rates;
+    for (let i = 0; i < this.size; i++) out[i] = rates[i]! * SECONDS_PER_TIME_UNIT;
+    return out;
+  }
+
+  /** The mode as dx/dt = A·x + b (per time unit), read off the field by probing; only for linear modes. */
+  system(): AffineSystem {
+    if (!this.linear) throw new Error(`mode ${this.key} is not linear`);
+    if (!this.systemCache) {
+      const n = this.size;
+      const x = new Array<number>(n).fill(0);
+      const b = this.derivative(x, new Array<number>(n));
+      const A = new Array<number>(n * n);
+      const column = new Array<number>(n);
+      for (let j = 0; j < n; j++) {
+        x[j] = 1;
+        this.derivative(x, column);
+        for (let i = 0; i < n; i++) A[i * n + j] = column[i]! - b[i]!;
+        x[j] = 0;
+      }
+      this.systemCache = { A, b };
+    }
+    return this.systemCache;
+  }
+
+  /**
+   * Makes the state consistent with this mode just entered: algebraic quantities take their
+   * constrained values (the drain, a loop current with nothing to carry it, im = ip with the output
+   * diode off), and a diode that stopped holds no charge.
+   */
+  enter(x: number[]): void {
+    const p = this.params, m = this.mode, clamp = p.clamp;
+    if (clamp && clamp.loopInductance > 0) {
+      if (clamp.diodeCapacitance > 0 && m.clampDiode === 'on') x[VJ] = clamp.diodeDrop;
+      if (clamp.diodeCapacitance === 0 && m.clampDiode === 'off') x[IC] = 0;
+      if (clamp.diodeCapacitance === 0 && m.clampDiode === 'recovering') x[IC] = -x[QD]! / clamp.recovery!.transitTime;
+    }
+    if (clamp && (clamp.recovery || clamp.forwardRecovery) && m.clampDiode === 'off') x[QD] = 0;
+    if (this.size > KF && !m.channelFalling) { x[ICH] = 0; x[KF] = 0; }
+    if (!m.outputDiodeOn) x[IM] = x[IP]!;
+    if (m.drain !== 'free') x[VD] = this.signals(x).drainVoltage;
+  }
 }

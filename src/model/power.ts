@@ -1,44 +1,46 @@
 // Instantaneous powers (W) of every source and sink, for energy accounting over a period.
 
-import { evaluate, IM, IP, VC, VS } from './affine.js';
 import type { CircuitParams } from './circuit-params.js';
 import type { ModeModel } from './modes.js';
+import { IC, IM, IP, VC, VJ, VS } from './state.js';
 
 export const POWER_TERMS = [
-  'supply', 'load', 'outputDiode', 'primaryResistance', 'switchChannel',
-  'clampResistor', 'clampDiode', 'bodyDiode', 'damperResistor',
+  'supply', 'load', 'outputDiode', 'primaryResistance', 'switchChannel', 'switchTurnOff',
+  'clampResistor', 'clampDiode', 'bodyDiode', 'avalanche', 'damperResistor',
 ] as const;
 export type PowerTerm = (typeof POWER_TERMS)[number];
+export const powerIndex = (term: PowerTerm): number => POWER_TERMS.indexOf(term);
 
 /** Writes each term's instantaneous power into `out` (indexed like POWER_TERMS). */
 export function instantaneousPowers(p: CircuitParams, mm: ModeModel, x: ArrayLike<number>, out: number[]): void {
-  const f = mm.forms;
-  const xs = x as number[];
+  const s = mm.signals(x);
   const ip = x[IP]!;
-  const icd = evaluate(f.clampDiodeCurrent, xs);
-  const isec = evaluate(f.secondaryCurrent, xs);
-  const id = evaluate(f.damperCurrent, xs);
-  const isw = evaluate(f.switchCurrent, xs);
+  const vd = s.drainVoltage;
   const vc = x[VC]!;
-  // The clamp returns its current to the supply rail, so the supply delivers Vin·(ip − icd).
-  out[0] = p.supplyVoltage * (ip - icd);
-  out[1] = p.reflectedLoadVoltage * isec;
-  out[2] = (p.reflectedVoltage - p.reflectedLoadVoltage) * isec;
+  // The clamp branch returns its current to the supply rail.
+  out[0] = p.supplyVoltage * (ip - s.clampBranchCurrent);
+  out[1] = p.reflectedLoadVoltage * s.secondaryCurrent;
+  out[2] = (p.reflectedVoltage - p.reflectedLoadVoltage) * s.secondaryCurrent;
   out[3] = p.primaryResistance * ip * ip;
-  out[4] = isw * evaluate(f.drainVoltage, xs);
-  out[5] = p.clamp ? (vc * vc) / p.clamp.resistance : 0;
-  out[6] = p.clamp ? p.clamp.diodeDrop * icd : 0;
-  out[7] = p.bodyDiodeDrop * evaluate(f.bodyDiodeCurrent, xs);
-  out[8] = p.damper ? id * id * p.damper.resistance : 0;
+  out[4] = s.switchCurrent * vd;
+  out[5] = s.fallingChannelCurrent * vd;
+  out[6] = p.clamp ? (vc * vc) / p.clamp.resistance : 0;
+  out[7] = s.clampDiodeVoltage * s.clampDiodeCurrent;
+  out[8] = p.bodyDiodeDrop * s.bodyDiodeCurrent;
+  out[9] = s.avalancheCurrent * vd;
+  out[10] = p.damper ? s.damperCurrent * s.damperCurrent * p.damper.resistance : 0;
 }
 
 /** Energy (J) held in the inductances and capacitances. */
 export function storedEnergy(p: CircuitParams, mm: ModeModel, x: ArrayLike<number>): number {
-  const vd = evaluate(mm.forms.drainVoltage, x as number[]);
-  const lm = p.magnetizingInductance;
-  const llk = p.leakageInductance;
-  let e = 0.5 * llk * x[IP]! ** 2 + 0.5 * lm * x[IM]! ** 2 + 0.5 * p.drainCapacitance * vd * vd;
-  if (p.clamp) e += 0.5 * p.clamp.capacitance * x[VC]! ** 2;
+  const vd = mm.signals(x).drainVoltage;
+  let e = 0.5 * p.leakageInductance * x[IP]! ** 2 + 0.5 * p.magnetizingInductance * x[IM]! ** 2 + p.drainNode.energy(vd);
+  const c = p.clamp;
+  if (c) {
+    e += 0.5 * c.capacitance * x[VC]! ** 2;
+    if (c.loopInductance > 0) e += 0.5 * c.loopInductance * x[IC]! ** 2;
+    if (c.loopInductance > 0 && c.diodeCapacitance > 0) e += 0.5 * c.diodeCapacitance * x[VJ]! ** 2;
+  }
   if (p.damper) e += 0.5 * p.damper.capacitance * x[VS]! ** 2;
   return e;
 }

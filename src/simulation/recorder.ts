@@ -2,10 +2,10 @@
 // grid, exact extrema (zeros of the affine rate located on the interpolant), and per-cycle
 // energies by Gauss–Legendre quadrature. Memory is bounded by recordedCycles × samplesPerCycle.
 
-import { evaluate, rateOf, unit, IM, IP, VC, VS, type AffineForm } from '../model/affine.js';
 import type { ModeEntry } from '../model/events.js';
 import { POWER_TERMS, instantaneousPowers, storedEnergy } from '../model/power.js';
-import { SECONDS_PER_TIME_UNIT, modeKey } from '../model/modes.js';
+import { SECONDS_PER_TIME_UNIT } from '../model/modes.js';
+import { IC, IM, IP, VC, VD, VS, stateSizeFor } from '../model/state.js';
 import type { CircuitParams } from '../model/circuit-params.js';
 import { locateRisingRoot } from '../solver/locate-root.js';
 import type { StateAt } from '../solver/segment.js';
@@ -33,9 +33,15 @@ export interface CycleRecord {
   storedEnergyEnd: number;
   clampVoltageIntegral: number;
   drainVoltage: { max: number; min: number };
+  /** Clamp capacitor voltage (above the rail) at the instant of the drain's maximum. */
+  clampVoltageAtDrainPeak: number;
   clampVoltage: { max: number; min: number };
   clampDiodePeakCurrent: number;
+  /** Charge the clamp diode conducted backwards (recovery) over the cycle, C. */
+  clampDiodeReverseCharge: number;
   primaryPeakCurrent: number;
+  /** Primary current at the instant the switch opened, A. */
+  turnOffCurrent: number;
   /** Local maxima of the drain voltage, times from the start of this cycle. */
   drainMaxima: DrainExtremum[];
   turnOffSeconds: number;
@@ -48,10 +54,12 @@ export interface CycleRecord {
 const GL_NODES = [0.04691007703066800, 0.23076534494715845, 0.5, 0.76923465505284155, 0.95308992296933200];
 const GL_WEIGHTS = [0.11846344252809454, 0.23931433524968324, 0.28444444444444444, 0.23931433524968324, 0.11846344252809454];
 
-const CLAMP_VOLTAGE = unit(VC);
-const PRIMARY_CURRENT = unit(IP);
+/** A scalar of the state in one mode, and its rate along the solution (per time unit). */
+interface Tracked { value: (entry: ModeEntry, x: number[]) => number; rate: (entry: ModeEntry, x: number[], dx: number[]) => number }
 
-interface TrackedRates { drain: AffineForm; clamp: AffineForm; clampDiode: AffineForm; primary: AffineForm }
+const DRAIN: Tracked = { value: (e, x) => e.model.signals(x).drainVoltage, rate: (_e, _x, dx) => dx[VD]! };
+const CLAMP: Tracked = { value: (_e, x) => x[VC]!, rate: (_e, _x, dx) => dx[VC]! };
+const PRIMARY: Tracked = { value: (_e, x) => x[IP]!, rate: (_e, _x, dx) => dx[IP]! };
 
 export class CycleRecorder {
   readonly waveform: Waveform;
@@ -59,8 +67,9 @@ export class CycleRecorder {
   private current: CycleRecord | null = null;
   private cycleIndex = -1;
   private readonly gridStep: number;
-  private readonly rates = new WeakMap<ModeEntry, TrackedRates>();
-  private readonly x = new Array<number>(5).fill(0);
+  private readonly x: number[];
+  private readonly dx: number[];
+  private readonly probe: number[];
   private readonly powers = new Array<number>(POWER_TERMS.length).fill(0);
 
   constructor(
@@ -70,6 +79,10 @@ export class CycleRecorder {
     private readonly samplesPerCycle: number,
     private readonly ringPeriodUnits: number,
   ) {
+    const size = stateSizeFor(params);
+    this.x = new Array<number>(size).fill(0);
+    this.dx = new Array<number>(size).fill(0);
+    this.probe = new Array<number>(size).fill(0);
     const n = cycleCount * samplesPerCycle + 1;
     this.gridStep = periodUnits / samplesPerCycle;
     const channels = {} as Record<WaveformChannel, Float64Array>;
@@ -91,13 +104,16 @@ export class CycleRecorder {
     this.current = {
       energy: new Array<number>(POWER_TERMS.length).fill(0),
       turnOnLoss,
-      storedEnergyStart: storedEnergy(this.params, before.entry, before.x),
+      storedEnergyStart: storedEnergy(this.params, before.entry.model, before.x),
       storedEnergyEnd: 0,
       clampVoltageIntegral: 0,
       drainVoltage: { max: -Infinity, min: Infinity },
+      clampVoltageAtDrainPeak: NaN,
       clampVoltage: { max: -Infinity, min: Infinity },
       clampDiodePeakCurrent: 0,
+      clampDiodeReverseCharge: 0,
       primaryPeakCurrent: -Infinity,
+      turnOffCurrent: NaN,
       drainMaxima: [],
       turnOffSeconds: NaN,
       turnOffCause: 'fixed-duty',
@@ -107,10 +123,11 @@ export class CycleRecorder {
     this.point(entry, x);
   }
 
-  endCycle(entry: ModeEntry, x: readonly number[]): void {
+  endCycle(entry: ModeEntry, x: readonly number[], turnOffCurrent: number): void {
     const c = this.current!;
-    c.storedEnergyEnd = storedEnergy(this.params, entry, x);
-    c.outputDiodeOnAtEnd = entry.mode.outputDiodeOn;
+    c.storedEnergyEnd = storedEnergy(this.params, entry.model, x);
+    c.outputDiodeOnAtEnd = entry.model.mode.outputDiodeOn;
+    c.turnOffCurrent = turnOffCurrent;
     this.cycles.push(c);
     this.current = null;
   }
@@ -123,14 +140,18 @@ export class CycleRecorder {
   /** A state at an instant (segment ends, both sides of a mode change) for the extremum trackers. */
   point(entry: ModeEntry, x: readonly number[]): void {
     const c = this.current!;
-    const f = entry.forms;
-    const vd = evaluate(f.drainVoltage, x as number[]);
-    c.drainVoltage.max = Math.max(c.drainVoltage.max, vd);
-    c.drainVoltage.min = Math.min(c.drainVoltage.min, vd);
+    const s = entry.model.signals(x);
+    this.drainCandidate(s.drainVoltage, x[VC]!);
+    c.drainVoltage.min = Math.min(c.drainVoltage.min, s.drainVoltage);
     c.clampVoltage.max = Math.max(c.clampVoltage.max, x[VC]!);
     c.clampVoltage.min = Math.min(c.clampVoltage.min, x[VC]!);
-    c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, evaluate(f.clampDiodeCurrent, x as number[]));
+    c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, s.clampDiodeCurrent);
     c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, x[IP]!);
+  }
+
+  private drainCandidate(vd: number, vc: number): void {
+    const c = this.current!;
+    if (vd > c.drainVoltage.max) { c.drainVoltage.max = vd; c.clampVoltageAtDrainPeak = vc; }
   }
 
   /** One accepted piece [a, b] of the solution in `entry`'s mode, times local to the cycle. */
@@ -153,16 +174,15 @@ export class CycleRecorder {
 
   private writeSample(index: number, entry: ModeEntry, x: readonly number[]): void {
     const ch = this.waveform.channels;
-    const f = entry.forms;
-    const xs = x as number[];
-    ch.drainVoltage[index] = evaluate(f.drainVoltage, xs);
+    const s = entry.model.signals(x);
+    ch.drainVoltage[index] = s.drainVoltage;
     ch.clampVoltage[index] = x[VC]!;
     ch.primaryCurrent[index] = x[IP]!;
     ch.magnetizingCurrent[index] = x[IM]!;
     ch.damperCapacitorVoltage[index] = x[VS]!;
-    ch.clampDiodeCurrent[index] = evaluate(f.clampDiodeCurrent, xs);
-    ch.secondaryCurrent[index] = evaluate(f.secondaryCurrent, xs);
-    ch.damperCurrent[index] = evaluate(f.damperCurrent, xs);
+    ch.clampDiodeCurrent[index] = s.clampDiodeCurrent;
+    ch.secondaryCurrent[index] = s.secondaryCurrent;
+    ch.damperCurrent[index] = s.damperCurrent;
   }
 
   private integrate(entry: ModeEntry, a: number, b: number, stateAt: StateAt): void {
@@ -170,67 +190,80 @@ export class CycleRecorder {
     const pieces = Math.max(1, Math.ceil((b - a) / (this.ringPeriodUnits / 8)));
     const h = (b - a) / pieces;
     const dtSeconds = h * SECONDS_PER_TIME_UNIT;
+    const reverse = entry.model.mode.clampDiode === 'recovering' || (entry.model.mode.clampDiode === 'on' && this.params.clamp?.recovery);
     for (let s = 0; s < pieces; s++) {
       const t0 = a + s * h;
       for (let q = 0; q < GL_NODES.length; q++) {
         stateAt(t0 + GL_NODES[q]! * h, this.x);
-        instantaneousPowers(this.params, entry, this.x, this.powers);
+        instantaneousPowers(this.params, entry.model, this.x, this.powers);
         const w = GL_WEIGHTS[q]! * dtSeconds;
         for (let i = 0; i < this.powers.length; i++) c.energy[i]! += w * this.powers[i]!;
         c.clampVoltageIntegral += w * this.x[VC]!;
+        if (reverse) c.clampDiodeReverseCharge += w * Math.max(0, -entry.model.signals(this.x).clampDiodeCurrent);
       }
     }
   }
 
-  private ratesOf(entry: ModeEntry): TrackedRates {
-    let r = this.rates.get(entry);
-    if (!r) {
-      const f = entry.forms;
-      r = {
-        drain: rateOf(f.drainVoltage, entry.system),
-        clamp: rateOf(CLAMP_VOLTAGE, entry.system),
-        clampDiode: rateOf(f.clampDiodeCurrent, entry.system),
-        primary: rateOf(PRIMARY_CURRENT, entry.system),
-      };
-      this.rates.set(entry, r);
-    }
-    return r;
+  /**
+   * The clamp diode's current: a state with a loop inductance; otherwise algebraic, its rate taken
+   * by a central difference along the field (exact for a linear mode, to rounding).
+   */
+  private clampDiodeTracked(isState: boolean): Tracked {
+    if (isState) return { value: (_e, x) => x[IC]!, rate: (_e, _x, dx) => dx[IC]! };
+    const probe = this.probe;
+    const h = 1e-4 * this.ringPeriodUnits;
+    const current = (e: ModeEntry, y: number[]): number => e.model.signals(y).clampDiodeCurrent;
+    return {
+      value: current,
+      rate: (e, x, dx) => {
+        for (let i = 0; i < x.length; i++) probe[i] = x[i]! + h * dx[i]!;
+        const ahead = current(e, probe);
+        for (let i = 0; i < x.length; i++) probe[i] = x[i]! - h * dx[i]!;
+        return (ahead - current(e, probe)) / (2 * h);
+      },
+    };
   }
 
   private findExtrema(entry: ModeEntry, a: number, b: number, stateAt: StateAt): void {
     const c = this.current!;
-    const rates = this.ratesOf(entry);
-    const f = entry.forms;
     const samples = Math.max(4, Math.ceil((8 * (b - a)) / this.ringPeriodUnits));
-    const x = this.x;
-    const valueAt = (form: AffineForm, t: number): number => { stateAt(t, x); return evaluate(form, x); };
-    const scan = (rate: AffineForm, onMax: (t: number) => void, onMin: ((t: number) => void) | null): void => {
+    const x = this.x, dx = this.dx;
+    const valueAt = (q: Tracked, t: number): number => { stateAt(t, x); return q.value(entry, x); };
+    const rateAt = (q: Tracked, t: number): number => {
+      stateAt(t, x);
+      entry.model.derivative(x, dx);
+      return q.rate(entry, x, dx);
+    };
+    const scan = (q: Tracked, onMax: (t: number) => void, onMin: ((t: number) => void) | null): void => {
       let tPrev = a;
-      let rPrev = valueAt(rate, a);
+      let rPrev = rateAt(q, a);
       for (let j = 1; j <= samples; j++) {
         const t = a + ((b - a) * j) / samples;
-        const r = valueAt(rate, t);
+        const r = rateAt(q, t);
         const tol = 1e-12 * Math.max(1, Math.abs(t));
-        if (rPrev > 0 && r <= 0) onMax(locateRisingRoot((tq) => -valueAt(rate, tq), tPrev, t, -rPrev, -r, tol));
-        else if (onMin && rPrev < 0 && r >= 0) onMin(locateRisingRoot((tq) => valueAt(rate, tq), tPrev, t, rPrev, r, tol));
+        if (rPrev > 0 && r <= 0) onMax(locateRisingRoot((tq) => -rateAt(q, tq), tPrev, t, -rPrev, -r, tol));
+        else if (onMin && rPrev < 0 && r >= 0) onMin(locateRisingRoot((tq) => rateAt(q, tq), tPrev, t, rPrev, r, tol));
         tPrev = t;
         rPrev = r;
       }
     };
-    const key = modeKey(entry.mode);
-    scan(rates.drain, (t) => {
-      const v = valueAt(f.drainVoltage, t);
-      c.drainVoltage.max = Math.max(c.drainVoltage.max, v);
+    const key = entry.model.key;
+    scan(DRAIN, (t) => {
+      const v = valueAt(DRAIN, t);
+      this.drainCandidate(v, x[VC]!);
       c.drainMaxima.push({ timeSeconds: t * SECONDS_PER_TIME_UNIT, voltage: v, mode: key });
-    }, (t) => { c.drainVoltage.min = Math.min(c.drainVoltage.min, valueAt(f.drainVoltage, t)); });
-    if (this.params.clamp) {
-      scan(rates.clamp, (t) => { c.clampVoltage.max = Math.max(c.clampVoltage.max, valueAt(CLAMP_VOLTAGE, t)); },
-        (t) => { c.clampVoltage.min = Math.min(c.clampVoltage.min, valueAt(CLAMP_VOLTAGE, t)); });
-      if (entry.mode.drain === 'clamp') {
-        scan(rates.clampDiode, (t) => { c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, valueAt(f.clampDiodeCurrent, t)); }, null);
+    }, (t) => { c.drainVoltage.min = Math.min(c.drainVoltage.min, valueAt(DRAIN, t)); });
+    const clamp = this.params.clamp;
+    if (clamp) {
+      scan(CLAMP, (t) => { c.clampVoltage.max = Math.max(c.clampVoltage.max, valueAt(CLAMP, t)); },
+        (t) => { c.clampVoltage.min = Math.min(c.clampVoltage.min, valueAt(CLAMP, t)); });
+      const diodeOn = entry.model.mode.drain === 'clamp' || (clamp.loopInductance > 0 && entry.model.mode.clampDiode === 'on');
+      if (diodeOn) {
+        const diode = this.clampDiodeTracked(clamp.loopInductance > 0);
+        scan(diode, (t) => { c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, valueAt(diode, t)); }, null);
       }
     }
-    scan(rates.primary, (t) => { c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, valueAt(PRIMARY_CURRENT, t)); }, null);
+    scan(PRIMARY, (t) => { c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, valueAt(PRIMARY, t)); }, null);
     stateAt(b, x);
     this.point(entry, x);
   }

@@ -2,10 +2,10 @@
 // events, and repeat until the period-start state settles (or the orbit is classified), then
 // record a few settled cycles at full resolution.
 
-import { evaluate, IP, VC, VS } from '../model/affine.js';
-import { circuitForVariant, leakageRingPeriodSeconds, type CircuitParams } from '../model/circuit-params.js';
-import { SwitchingNodeModel, type DeviceName, type ModeEntry } from '../model/events.js';
-import { SECONDS_PER_TIME_UNIT, modeKey, type Mode } from '../model/modes.js';
+import { circuitForVariant, fastestRingPeriodSeconds, leakageRingPeriodSeconds, type CircuitParams } from '../model/circuit-params.js';
+import { SwitchingNodeModel, type DeviceName, type ModeEntry, type ModeEvent } from '../model/events.js';
+import { SECONDS_PER_TIME_UNIT, SWITCH_ON, type Mode } from '../model/modes.js';
+import { ICH, IP, KF, VC, VS, stateSizeFor } from '../model/state.js';
 import { settledClampVoltage } from '../equations/rcd-clamp.js';
 import type { Scenario, SimulationSettings, VariantName } from '../circuit/scenario.js';
 import { OdexSegmentIntegrator } from '../solver/odex-segment.js';
@@ -38,7 +38,7 @@ export interface VariantRun {
 
 export interface RunOptions {
   /** Integrator factory; the default is odex. Tests pass an exact one. */
-  integrator?: (absoluteTolerance: number[], settings: SimulationSettings) => SegmentIntegrator;
+  integrator?: (absoluteTolerance: number[], settings: SimulationSettings, stateSize: number) => SegmentIntegrator;
   /** Stop with a failure once Date.now() passes this. */
   deadlineMs?: number;
   /** Starting state [ip, im, vd, vc, vs]; by default the hand-formula clamp voltage and Vin on the damper. */
@@ -57,18 +57,21 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   const settings = scenario.simulation;
   const params = circuitForVariant(scenario, variant);
   const model = new SwitchingNodeModel(params);
-  const { current: iScale, voltage: vScale } = model.scales;
-  const scales = [iScale, iScale, vScale, vScale, vScale];
+  const stateSize = stateSizeFor(params);
+  const scales = stateScaleVector(params, model.scales, stateSize);
   const atol = scales.map((s) => s * settings.relativeTolerance);
-  const integrator = options.integrator?.(atol, settings)
-    ?? new OdexSegmentIntegrator({ relativeTolerance: settings.relativeTolerance, absoluteTolerance: atol });
+  const integrator = options.integrator?.(atol, settings, stateSize)
+    ?? new OdexSegmentIntegrator({ stateSize, relativeTolerance: settings.relativeTolerance, absoluteTolerance: atol });
 
   const period = params.periodSeconds / SECONDS_PER_TIME_UNIT;
-  const ringPeriod = leakageRingPeriodSeconds(params) / SECONDS_PER_TIME_UNIT;
+  const leakageRingPeriod = leakageRingPeriodSeconds(params) / SECONDS_PER_TIME_UNIT;
+  // Steps, event sampling and the recorder's searches follow the fastest ring; the waveform grid the leakage ring.
+  const ringPeriod = fastestRingPeriodSeconds(params) / SECONDS_PER_TIME_UNIT;
   const control = params.control;
   const turnOffAt = (control.kind === 'fixed-duty' ? control.dutyCycle : control.maxDutyCycle) * period;
   const boundaryCause = control.kind === 'fixed-duty' ? 'fixed-duty' : 'max-duty';
-  const samplesPerCycle = Math.min(50_000, Math.max(settings.samplesPerCycle, Math.ceil((24 * period) / ringPeriod)));
+  const turnOffDelay = params.turnOffDelay / SECONDS_PER_TIME_UNIT;
+  const samplesPerCycle = Math.min(50_000, Math.max(settings.samplesPerCycle, Math.ceil((24 * period) / leakageRingPeriod)));
   const recorder = new CycleRecorder(params, period, settings.recordedCycles, samplesPerCycle, ringPeriod);
 
   const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
@@ -76,52 +79,100 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
 
   // Fire every transition whose condition already holds (or is at zero and rising) at this
   // instant. A device toggled in this instant is not toggled back, so a tangency cannot ping-pong.
+  // A state right at a threshold takes its sign from a short probe ahead along the field.
+  const probeRates = new Array<number>(stateSize);
+  const probeState = new Array<number>(stateSize);
+  const rising = (entry: ModeEntry, e: ModeEvent, x: number[]): boolean => {
+    const h = 1e-4 * ringPeriod;
+    entry.model.derivative(x, probeRates);
+    for (let i = 0; i < stateSize; i++) probeState[i] = x[i]! + h * probeRates[i]!;
+    return e.g(probeState) > 1e-10 * e.scale;
+  };
   const resolveInstant = (entry: ModeEntry, x: number[], toggled: Set<DeviceName>): ModeEntry => {
     for (let n = 0; n < MAX_CHAINED_TRANSITIONS; n++) {
       const due = entry.events.find((e) => {
-        if (toggled.has(e.device)) return false;
-        const g = evaluate(e.g, x);
+        if (toggled.has(e.device) || (e.device === 'switch' && tripped)) return false;
+        const g = e.g(x);
         if (g > 1e-9 * e.scale) return true;
-        return Math.abs(g) <= 1e-9 * e.scale && evaluate(e.rate, x) > (1e-6 * e.scale) / ringPeriod;
+        return Math.abs(g) <= 1e-9 * e.scale && rising(entry, e, x);
       });
       if (!due) return entry;
       toggled.add(due.device);
       stats.events++;
+      if (due.device === 'switch') {
+        entry = comparatorTripped(entry, x, cycleTime);
+        continue;
+      }
       entry = model.enter(due.next, x);
     }
-    throw new SimulationFailure(`devices kept switching at one instant (mode ${modeKey(entry.mode)})`);
+    throw new SimulationFailure(`devices kept switching at one instant (mode ${entry.model.key})`);
   };
 
-  let x = options.initialState ? [...options.initialState] : initialState(params);
-  let mode: Mode = { drain: 'switch', outputDiodeOn: false };
+  // The switch opens: with a fall time the channel current ramps down from its value now.
+  /** Time into the cycle of the instant being resolved, µs. */
+  let cycleTime = 0;
+  let turnOffCurrent = NaN;
+  const openSwitch = (entry: ModeEntry, x: number[]): ModeEntry => {
+    const channel = entry.model.signals(x).switchCurrent;
+    turnOffCurrent = x[IP]!;
+    const falling = params.currentFallTime > 0 && channel > 0;
+    if (falling) { x[ICH] = channel; x[KF] = channel / params.currentFallTime; }
+    return model.enter({ ...entry.model.mode, drain: 'free', channelFalling: falling }, x);
+  };
+  // The comparator trips at the peak current; the switch opens at once or after the delay.
+  let tripped = false;
+  let openAt = turnOffAt;
+  const comparatorTripped = (entry: ModeEntry, x: number[], t: number): ModeEntry => {
+    tripped = true;
+    if (turnOffDelay > 0) {
+      openAt = Math.min(turnOffAt, t + turnOffDelay);
+      return entry;
+    }
+    if (recordingNow) { recorder.point(entry, x); recorder.turnOff(t, 'peak-current'); }
+    return openSwitch(entry, x);
+  };
+  let recordingNow = false;
+
+  let x = options.initialState ? [...options.initialState] : initialState(params, stateSize);
+  let mode: Mode = SWITCH_ON;
   const tracker = new OrbitTracker(scales, settings.settleTolerance, settings.maxCycles);
   let verdict: OrbitKind | null = null;
   let cycles = 0;
 
   const runCycle = (recording: boolean): void => {
+    recordingNow = recording;
+    tripped = false;
+    openAt = turnOffAt;
+    turnOffCurrent = NaN;
     const entryBefore = model.entry(mode);
-    const vdBefore = evaluate(entryBefore.forms.drainVoltage, x);
+    const vdBefore = entryBefore.model.signals(x).drainVoltage;
     const before = recording ? { entry: entryBefore, x: [...x] } : null;
-    mode = { drain: 'switch', outputDiodeOn: mode.outputDiodeOn };
+    // An ideal clamp diode pinning the drain lets go as the switch pulls the drain down.
+    const clampDiode = mode.drain === 'clamp' ? 'off' : mode.clampDiode;
+    mode = { ...SWITCH_ON, outputDiodeOn: mode.outputDiodeOn, clampDiode };
     let entry = model.enter(mode, x);
-    const vdAfter = evaluate(entry.forms.drainVoltage, x);
-    // The difference, not ½·Coss·vd² alone: in CCM the channel holds Ron·ip right after turn-on.
-    const turnOnLoss = 0.5 * params.drainCapacitance * (vdBefore * vdBefore - vdAfter * vdAfter);
+    const vdAfter = entry.model.signals(x).drainVoltage;
+    // The difference, not the energy at vd alone: in CCM the channel holds Ron·ip right after turn-on.
+    const turnOnLoss = params.drainNode.energy(vdBefore) - params.drainNode.energy(vdAfter);
     entry = resolveInstant(entry, x, new Set<DeviceName>(['switch']));
     if (before) recorder.startCycle(before, entry, x, turnOnLoss);
     let t = 0;
+    cycleTime = 0;
     let eventsThisCycle = 0;
     const observer = recording
       ? (a: number, b: number, stateAt: (t: number, out: number[]) => void) => recorder.piece(entry, a, b, stateAt)
       : undefined;
     while (t < period) {
-      const switchOn = entry.mode.drain === 'switch';
-      const tEnd = switchOn ? Math.max(t, turnOffAt) : period;
+      const switchOn = entry.model.mode.drain === 'switch';
+      const tEnd = switchOn ? Math.max(t, openAt) : period;
       if (tEnd > t) {
-        const key = modeKey(entry.mode);
+        const key = entry.model.key;
+        const events = tripped ? entry.events.filter((e) => e.device !== 'switch') : entry.events;
         const result = integrator.integrate({
-          system: entry.system, t0: t, x0: x, tEnd,
-          events: entry.events.map((e) => e.g),
+          derivative: (y, out) => entry.model.derivative(y, out),
+          system: entry.model.linear ? entry.model.system() : null,
+          t0: t, x0: x, tEnd,
+          events: events.map((e) => e.g),
           initialStep: lastStepByMode.get(key) ?? ringPeriod / 50,
           maxStep: ringPeriod / 2,
           ...(observer ? { observer } : {}),
@@ -134,32 +185,31 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
         if (result.lastStep > 0) lastStepByMode.set(key, result.lastStep);
         t = result.t;
         x = result.x;
+        cycleTime = t;
         if (result.status === 'event') {
-          const event = entry.events[result.eventIndex]!;
+          const event = events[result.eventIndex]!;
           if (recording) recorder.point(entry, x);
           stats.events++;
           if (++eventsThisCycle > MAX_EVENTS_PER_CYCLE) {
             throw new SimulationFailure(`more than ${MAX_EVENTS_PER_CYCLE} device events in cycle ${cycles + 1}: the mode is chattering`);
           }
-          entry = model.enter(event.next, x);
+          entry = event.device === 'switch' ? comparatorTripped(entry, x, t) : model.enter(event.next, x);
           entry = resolveInstant(entry, x, new Set<DeviceName>([event.device]));
-          if (recording) {
-            recorder.point(entry, x);
-            if (event.device === 'switch') recorder.turnOff(t, 'peak-current');
-          }
+          if (recording) recorder.point(entry, x);
           continue;
         }
       }
       if (switchOn) {
-        // The known turn-off instant (fixed duty, or the maximum duty under peak-current control).
-        if (recording) { recorder.point(entry, x); recorder.turnOff(t, boundaryCause); }
-        entry = model.enter({ ...entry.mode, drain: 'free' }, x);
+        // A known opening instant: fixed duty, the maximum duty, or the end of the turn-off delay.
+        const cause = control.kind === 'fixed-duty' ? 'fixed-duty' : tripped ? 'peak-current' : boundaryCause;
+        if (recording) { recorder.point(entry, x); recorder.turnOff(t, cause); }
+        entry = openSwitch(entry, x);
         entry = resolveInstant(entry, x, new Set<DeviceName>(['switch']));
         stats.events++;
       }
     }
-    mode = entry.mode;
-    if (recording) recorder.endCycle(entry, x);
+    mode = entry.model.mode;
+    if (recording) recorder.endCycle(entry, x, turnOffCurrent);
   };
 
   const checkDeadline = (): void => {
@@ -192,9 +242,16 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   };
 }
 
+/** Per-state scales: currents, voltages, the diode's charge, the channel's rate of fall. */
+function stateScaleVector(p: CircuitParams, s: { current: number; voltage: number }, size: number): number[] {
+  const charge = s.current * (p.clamp?.recovery?.lifetime ?? p.periodSeconds);
+  const all = [s.current, s.current, s.voltage, s.voltage, s.voltage, s.current, s.voltage, charge, s.current, s.current / Math.max(p.currentFallTime, 1e-12)];
+  return all.slice(0, size);
+}
+
 /** Start at zero current, the hand-formula clamp voltage and the supply voltage on the damper. */
-function initialState(p: CircuitParams): number[] {
-  const x = [0, 0, 0, 0, 0];
+function initialState(p: CircuitParams, size: number): number[] {
+  const x = new Array<number>(size).fill(0);
   if (p.clamp) {
     const ipk = p.control.kind === 'peak-current'
       ? p.control.peakCurrent

@@ -3,11 +3,11 @@
 // crossed and re-crossed within one step is still seen.
 
 import { Outcome, Solver } from '#odex';
-import { applySystem, evaluate, STATE_SIZE } from '../model/affine.js';
 import { locateRisingRoot } from './locate-root.js';
 import type { SegmentIntegrator, SegmentProblem, SegmentResult, StateAt } from './segment.js';
 
 export interface OdexSettings {
+  stateSize: number;
   relativeTolerance: number;
   absoluteTolerance: readonly number[];
   /** Points inside each step at which event functions are sampled. */
@@ -18,9 +18,11 @@ export interface OdexSettings {
 export class OdexSegmentIntegrator implements SegmentIntegrator {
   private readonly solver: Solver;
   private readonly samplesPerStep: number;
+  private readonly size: number;
 
   constructor(settings: OdexSettings) {
-    this.solver = new Solver(STATE_SIZE);
+    this.size = settings.stateSize;
+    this.solver = new Solver(this.size);
     this.solver.denseOutput = true;
     this.solver.relativeTolerance = settings.relativeTolerance;
     this.solver.absoluteTolerance = [...settings.absoluteTolerance];
@@ -29,17 +31,19 @@ export class OdexSegmentIntegrator implements SegmentIntegrator {
   }
 
   integrate(problem: SegmentProblem): SegmentResult {
-    const { system, events, observer } = problem;
+    const { events, observer } = problem;
+    const n = this.size;
     const span = problem.tEnd - problem.t0;
     const solver = this.solver;
     solver.initialStepSize = Math.min(problem.initialStep, span);
     solver.maxStepSize = Math.min(problem.maxStep, span);
     // odex copies the returned values at once, so one array serves every call of this segment.
-    const rates = new Array<number>(STATE_SIZE);
-    const derivative = (_t: number, y: number[]): number[] => applySystem(system, y, rates);
+    const rates = new Array<number>(n);
+    const field = problem.derivative;
+    const derivative = (_t: number, y: number[]): number[] => field(y, rates);
 
     const m = this.samplesPerStep;
-    const probe = new Array<number>(STATE_SIZE);
+    const probe = new Array<number>(n);
     const gPrev = new Array<number>(events.length);
     const gNow = new Array<number>(events.length);
     let lastStep = problem.initialStep;
@@ -48,27 +52,27 @@ export class OdexSegmentIntegrator implements SegmentIntegrator {
     const onStep = (stepNumber: number, tOld: number, t: number, _y: number[], dense?: (c: number, x: number) => number): boolean | void => {
       if (stepNumber === 1 || !dense) return;
       const stateAt: StateAt = (tq, out) => {
-        for (let i = 0; i < STATE_SIZE; i++) out[i] = dense(i, tq);
+        for (let i = 0; i < n; i++) out[i] = dense(i, tq);
       };
       if (events.length > 0) {
         stateAt(tOld, probe);
-        for (let e = 0; e < events.length; e++) gPrev[e] = evaluate(events[e]!, probe);
+        for (let e = 0; e < events.length; e++) gPrev[e] = events[e]!(probe);
         let tA = tOld;
         for (let j = 1; j <= m && !hit; j++) {
           const tB = j === m ? t : tOld + ((t - tOld) * j) / m;
           stateAt(tB, probe);
           let best = Infinity, bestIndex = -1;
           for (let e = 0; e < events.length; e++) {
-            gNow[e] = evaluate(events[e]!, probe);
+            gNow[e] = events[e]!(probe);
             if (gPrev[e]! < 0 && gNow[e]! >= 0) {
               const g = events[e]!;
-              const root = locateRisingRoot((tq) => { stateAt(tq, probe); return evaluate(g, probe); },
+              const root = locateRisingRoot((tq) => { stateAt(tq, probe); return g(probe); },
                 tA, tB, gPrev[e]!, gNow[e]!, 1e-13 * Math.max(1, Math.abs(tB)));
               if (root < best) { best = root; bestIndex = e; }
             }
           }
           if (bestIndex >= 0) {
-            const x = new Array<number>(STATE_SIZE);
+            const x = new Array<number>(n);
             stateAt(best, x);
             hit = { t: best, x, index: bestIndex };
           }

@@ -1,8 +1,11 @@
-// The contract between the cycle loop and an integrator: integrate one mode's affine system
+// The contract between the cycle loop and an integrator: integrate one mode's vector field
 // from t0 until tEnd or the first rising zero crossing of one of the event functions.
 // Time is in the model's time unit (µs).
 
-import type { AffineForm, AffineSystem } from '../model/affine.js';
+import type { AffineSystem } from '../model/affine.js';
+
+/** A scalar function of the state whose rising zero crossing is an event. */
+export type EventFunction = (x: ArrayLike<number>) => number;
 
 /** Evaluates the solution at a time inside the piece being observed, writing the state into `out`. */
 export type StateAt = (t: number, out: number[]) => void;
@@ -11,12 +14,15 @@ export type StateAt = (t: number, out: number[]) => void;
 export type PieceObserver = (tStart: number, tEnd: number, stateAt: StateAt) => void;
 
 export interface SegmentProblem {
-  system: AffineSystem;
+  /** dx/dt per time unit, written into `out`. */
+  derivative: (x: ArrayLike<number>, out: number[]) => number[];
+  /** The same field as dx/dt = A·x + b, when the mode is linear (for exact propagators). */
+  system: AffineSystem | null;
   t0: number;
   x0: readonly number[];
   tEnd: number;
   /** The segment stops at the first rising zero crossing (negative to non-negative) of any of these. */
-  events: readonly AffineForm[];
+  events: readonly EventFunction[];
   /** A starting step: the last good step taken in the same mode, or a guess. */
   initialStep: number;
   maxStep: number;

@@ -5,7 +5,7 @@ import { loadScenarioFile } from '../../src/circuit/load-scenario.js';
 import { availableVariants, type Scenario } from '../../src/circuit/scenario.js';
 import { runVariant, type VariantRun } from '../../src/simulation/run-variant.js';
 import { variantMetrics, type VariantMetrics } from '../../src/analysis/variant-metrics.js';
-import { evaluate, type AffineForm, type AffineSystem } from '../../src/model/affine.js';
+import { applySystem, type AffineSystem } from '../../src/model/affine.js';
 import { leakageRingPeriodSeconds } from '../../src/model/circuit-params.js';
 import type { SegmentProblem } from '../../src/solver/segment.js';
 import { ExpmSegmentIntegrator } from './expm-segment.js';
@@ -57,7 +57,7 @@ describe(`ExpmSegmentIntegrator against closed forms (${REFERENCE} checked here 
     let worst = 0, pieceEnd = 0, contiguous = true, pieces = 0;
     const x = [0, 0, 0, 0, 0];
     const result = new ExpmSegmentIntegrator().integrate({
-      system: ringSystem, t0: 0, x0: closedForm(0, tp), tEnd, events: [], initialStep: RING / 50, maxStep: RING,
+      system: ringSystem, derivative: (x, out) => applySystem(ringSystem, x, out), t0: 0, x0: closedForm(0, tp), tEnd, events: [], initialStep: RING / 50, maxStep: RING,
       observer: (a, b, stateAt) => {
         contiguous &&= a === pieceEnd;
         pieceEnd = b;
@@ -89,15 +89,15 @@ describe(`ExpmSegmentIntegrator against closed forms (${REFERENCE} checked here 
   const tp = (substep + Math.floor(m / 2) / m) * h;
   const halfWidth = (0.4 * h) / m;
   const threshold = VC0 + AMPLITUDE * Math.cos(OMEGA * halfWidth);
-  const ringAbove: AffineForm = { c: [0, 0, 1, 0, 0], k: -threshold };
-  const never: AffineForm = { c: [0, 0, 0, 1, 0], k: -1e3 };
+  const ringAbove = (x: ArrayLike<number>): number => x[2]! - threshold;
+  const never = (x: ArrayLike<number>): number => x[3]! - 1e3;
   const problem = (): SegmentProblem => ({
-    system: ringSystem, t0: 0, x0: closedForm(0, tp), tEnd: tp + 0.5 * RING, events: [never, ringAbove],
+    system: ringSystem, derivative: (x, out) => applySystem(ringSystem, x, out), t0: 0, x0: closedForm(0, tp), tEnd: tp + 0.5 * RING, events: [never, ringAbove],
     initialStep: RING / 50, maxStep: RING,
   });
 
   it('integrate() finds a crossing that happens and reverses inside one substep, at the closed-form time tp − arccos(·)/ω', () => {
-    const g = (t: number): number => evaluate(ringAbove, closedForm(t, tp));
+    const g = (t: number): number => ringAbove(closedForm(t, tp));
     // Preconditions of the construction: invisible at the substep ends, the first rising crossing since t0.
     expect(g(substep * h)).toBeLessThan(0);
     expect(g((substep + 1) * h)).toBeLessThan(0);

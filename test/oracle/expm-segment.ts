@@ -16,10 +16,12 @@
 // event location tolerance).
 
 import { expm, matrix } from 'mathjs';
-import { evaluate, STATE_SIZE, type AffineSystem } from '../../src/model/affine.js';
+import type { AffineSystem } from '../../src/model/affine.js';
 import { locateRisingRoot } from '../../src/solver/locate-root.js';
 import type { SegmentIntegrator, SegmentProblem, SegmentResult, StateAt } from '../../src/solver/segment.js';
 
+/** The five states of a circuit of constant, ideal parts: the exact solver covers that model only. */
+const STATE_SIZE = 5;
 /** Augmented size: the constant term b rides along as a sixth state fixed at 1. */
 const AUG = STATE_SIZE + 1;
 /** τ/h in base 256 with this many digits: at most 6 matrix–vector products for any τ. */
@@ -215,6 +217,9 @@ export class ExpmSegmentIntegrator implements SegmentIntegrator {
     if (!(tEnd - t0 >= 0) || !(problem.maxStep > 0) || !problem.x0.every(Number.isFinite)) {
       return { status: 'failed', t: t0, x: [...problem.x0], eventIndex: -1, lastStep: 0, evaluations: 0, steps: 0, message: 'bad segment problem' };
     }
+    if (!system || system.b.length !== STATE_SIZE) {
+      return { status: 'failed', t: t0, x: [...problem.x0], eventIndex: -1, lastStep: 0, evaluations: 0, steps: 0, message: 'the exact solver takes linear five-state modes only' };
+    }
     const h = problem.maxStep / this.substepsPerMaxStep;
     const p = this.propagators(system, h);
     const m = this.samplesPerSubstep;
@@ -230,7 +235,7 @@ export class ExpmSegmentIntegrator implements SegmentIntegrator {
     let k0 = 0, count = 0, lastTau = 0, generation = 0;
     const sample = new Array<number>(STATE_SIZE).fill(0);
     const probe = new Array<number>(STATE_SIZE).fill(0);
-    const gPrev = events.map((g) => evaluate(g, starts[0]!));
+    const gPrev = events.map((g) => g(starts[0]!));
     const gNow = new Array<number>(events.length).fill(0);
 
     // Exact state anywhere in the piece in progress, from the start of the substep holding t.
@@ -253,7 +258,7 @@ export class ExpmSegmentIntegrator implements SegmentIntegrator {
       for (let i = 0; i < STATE_SIZE; i++) out[i] = memoX[i]!;
     };
     let g = events[0];
-    const gAt = (tq: number): number => { stateAt(tq, probe); return evaluate(g!, probe); };
+    const gAt = (tq: number): number => { stateAt(tq, probe); return g!(probe); };
 
     for (let k = 0; ; k++) {
       const a = t0 + k * h;
@@ -275,7 +280,7 @@ export class ExpmSegmentIntegrator implements SegmentIntegrator {
         else this.propagate(p, tau, xa, x);
         const tB = isEnd ? b : a + tau;
         for (let e = 0; e < events.length; e++) {
-          gNow[e] = evaluate(events[e]!, x);
+          gNow[e] = events[e]!(x);
           if (gPrev[e]! < 0 && gNow[e]! >= 0) {
             g = events[e]!;
             const root = locateRisingRoot(gAt, tA, tB, gPrev[e]!, gNow[e]!, 1e-13 * Math.max(1, Math.abs(tB)));

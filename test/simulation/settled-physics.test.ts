@@ -21,7 +21,7 @@ describe('bare drain overshoot against the energy balance', () => {
   ])('runVariant(lab, bare) with Llk = %s, Coss = %s peaks within 2 percent of the formula', (leakage, coss) => {
     const scenario = labScenario({ transformer: { leakageInductance: leakage, primaryResistance: 0.5 }, switch: { drainCapacitance: coss }, clamp: undefined });
     const m = variantMetrics(runVariant(scenario, 'bare'), 400);
-    const l = scenario.transformer.leakageInductance, c = scenario.switch.drainCapacitance;
+    const l = scenario.transformer.leakageInductance, c = scenario.switch.drainCapacitance as number;
     const formula = scenario.supply.voltage + reflectedVoltage(scenario) + 1 * Math.sqrt(l / c);
     // What the formula leaves out: the output diode starts at VR·(1 + Llk/Lm), and the primary
     // current still rises a little while Coss charges up to the supply.
@@ -35,7 +35,7 @@ describe('bare drain overshoot against the energy balance', () => {
     const rp = 20;
     const scenario = labScenario({ transformer: { primaryResistance: rp }, switch: { drainCapacitance: '400p' }, clamp: undefined });
     const m = variantMetrics(runVariant(scenario, 'bare'), 400);
-    const l = scenario.transformer.leakageInductance, c = scenario.switch.drainCapacitance;
+    const l = scenario.transformer.leakageInductance, c = scenario.switch.drainCapacitance as number;
     const zeta = (rp / 2) * Math.sqrt(c / l);
     const f0 = 1 / (2 * Math.PI * Math.sqrt(l * c));
     const fd = f0 * Math.sqrt(1 - zeta * zeta);

@@ -1,8 +1,9 @@
 import { describe, expect, it } from 'vitest';
 import { OdexSegmentIntegrator } from '../../src/solver/odex-segment.js';
-import { buildMode, SECONDS_PER_TIME_UNIT } from '../../src/model/modes.js';
+import { ModeModel, SECONDS_PER_TIME_UNIT, SWITCH_ON, type Mode } from '../../src/model/modes.js';
 import { circuitForVariant } from '../../src/model/circuit-params.js';
-import { combine, constant, unit, IP, VC, VD } from '../../src/model/affine.js';
+import { IP, VC, VD } from '../../src/model/state.js';
+import type { CircuitParams } from '../../src/model/circuit-params.js';
 import { labScenario } from '../support/lab-scenarios.js';
 
 // Closed forms per mode (Nilsson & Riedel, Electric Circuits; any circuits text):
@@ -11,7 +12,13 @@ import { labScenario } from '../support/lab-scenarios.js';
 
 const RTOL = 1e-8;
 const integrator = (scale: number): OdexSegmentIntegrator =>
-  new OdexSegmentIntegrator({ relativeTolerance: RTOL, absoluteTolerance: [1, 1, scale, scale, scale].map((s) => s * RTOL) });
+  new OdexSegmentIntegrator({ stateSize: 5, relativeTolerance: RTOL, absoluteTolerance: [1, 1, scale, scale, scale].map((s) => s * RTOL) });
+
+/** One mode's field as the integrator takes it. */
+function field(p: CircuitParams, mode: Mode) {
+  const m = new ModeModel(p, mode);
+  return { derivative: (x: ArrayLike<number>, out: number[]) => m.derivative(x, out), system: null };
+}
 
 /** The drain-free, output-diode-on mode: the leakage inductance rings against the drain capacitance. */
 function ringMode(primaryResistance: number) {
@@ -21,20 +28,20 @@ function ringMode(primaryResistance: number) {
     switch: { drainCapacitance: '100p', peakCurrent: undefined, dutyCycle: 0.1 },
   });
   const p = circuitForVariant(scenario, 'clamp');
-  return { p, mode: buildMode(p, { drain: 'free', outputDiodeOn: true }) };
+  return { p, mode: field(p, { ...SWITCH_ON, drain: 'free', outputDiodeOn: true }) };
 }
 
 describe('OdexSegmentIntegrator on single modes against closed forms', () => {
   it('integrate(free+out, R = 0) follows the LC ring: vd − (Vin+VR) = I0·Z0·sin(ω0·t), within 20 × rtol', () => {
     const { p, mode } = ringMode(0);
-    const l = p.leakageInductance, c = p.drainCapacitance;
+    const l = p.leakageInductance, c = p.drainNode.at(0);
     const w0 = 1 / Math.sqrt(l * c) * SECONDS_PER_TIME_UNIT; // rad per µs
     const z0 = Math.sqrt(l / c);
     const i0 = 0.5, vEq = p.supplyVoltage + p.reflectedVoltage;
     const tEnd = 3.3 * (2 * Math.PI / w0);
     let worst = 0;
     const result = integrator(vEq).integrate({
-      system: mode.system, t0: 0, x0: [i0, 1, vEq, 0, 0], tEnd, events: [], initialStep: 0.001, maxStep: 1,
+      ...mode, t0: 0, x0: [i0, 1, vEq, 0, 0], tEnd, events: [], initialStep: 0.001, maxStep: 1,
       observer: (a, b, stateAt) => {
         const x = [0, 0, 0, 0, 0];
         for (const t of [a, (a + b) / 2, b]) {
@@ -50,7 +57,7 @@ describe('OdexSegmentIntegrator on single modes against closed forms', () => {
 
   it('integrate(free+out, R > 0) decays like the series RLC: ωd = ω0·√(1−ζ²), envelope exp(−ζ·ω0·t)', () => {
     const { p, mode } = ringMode(20);
-    const l = p.leakageInductance, c = p.drainCapacitance, r = p.primaryResistance;
+    const l = p.leakageInductance, c = p.drainNode.at(0), r = p.primaryResistance;
     const w0 = SECONDS_PER_TIME_UNIT / Math.sqrt(l * c);
     const zeta = (r / 2) * Math.sqrt(c / l);
     const wd = w0 * Math.sqrt(1 - zeta * zeta);
@@ -59,7 +66,7 @@ describe('OdexSegmentIntegrator on single modes against closed forms', () => {
     const i0 = 0.5, im = 0;
     const vEq = p.supplyVoltage + p.reflectedVoltage - r * im;
     const tEnd = 2.7 * (2 * Math.PI / wd);
-    const result = integrator(vEq).integrate({ system: mode.system, t0: 0, x0: [i0, im, vEq, 0, 0], tEnd, events: [], initialStep: 0.001, maxStep: 1 });
+    const result = integrator(vEq).integrate({ ...mode, t0: 0, x0: [i0, im, vEq, 0, 0], tEnd, events: [], initialStep: 0.001, maxStep: 1 });
     // Current of a series RLC released at the equilibrium voltage with current i0:
     // i(t) = i0·e^(−ζω0t)·(cos ωd t − ζω0/ωd · sin ωd t); vd follows from Coss·dvd/dt = i.
     const decay = Math.exp(-zeta * w0 * tEnd);
@@ -72,26 +79,26 @@ describe('OdexSegmentIntegrator on single modes against closed forms', () => {
   it('integrate(clamp cap with the diode off) decays as exp(−t/(R·C)) within 10 × rtol', () => {
     const scenario = labScenario();
     const p = circuitForVariant(scenario, 'clamp');
-    const mode = buildMode(p, { drain: 'free', outputDiodeOn: false });
+    const mode = field(p, { ...SWITCH_ON, drain: 'free' });
     const tau = p.clamp!.resistance * p.clamp!.capacitance / SECONDS_PER_TIME_UNIT;
-    const result = integrator(200).integrate({ system: mode.system, t0: 0, x0: [0, 0, 100, 150, 0], tEnd: 2 * tau, events: [], initialStep: 0.01, maxStep: 1e9 });
+    const result = integrator(200).integrate({ ...mode, t0: 0, x0: [0, 0, 100, 150, 0], tEnd: 2 * tau, events: [], initialStep: 0.01, maxStep: 1e9 });
     expect(Math.abs(result.x[VC]! - 150 * Math.exp(-2)) / 150).toBeLessThan(10 * RTOL);
   });
 
   it('integrate finds a threshold crossed and re-crossed inside one solver step', () => {
     const { p, mode } = ringMode(0);
-    const l = p.leakageInductance, c = p.drainCapacitance;
+    const l = p.leakageInductance, c = p.drainNode.at(0);
     const w0 = SECONDS_PER_TIME_UNIT / Math.sqrt(l * c);
     const z0 = Math.sqrt(l / c);
     const i0 = 0.5, vEq = p.supplyVoltage + p.reflectedVoltage;
     // A level 0.2 % below the ring's crest: the drain stays above it for ~4 % of a ring period,
     // far shorter than the extrapolation code's steps on this smooth ring.
     const level = vEq + 0.998 * i0 * z0;
-    const event = combine([1, unit(VD)], [1, constant(-level)]);
+    const event = (x: ArrayLike<number>): number => x[VD]! - level;
     const expected = Math.asin(0.998) / w0;
-    const problem = { system: mode.system, t0: 0, x0: [i0, 1, vEq, 0, 0], tEnd: 2 * Math.PI / w0, events: [event], initialStep: 0.001, maxStep: 1 };
-    const stepEndsOnly = new OdexSegmentIntegrator({ relativeTolerance: 1e-6, absoluteTolerance: [1e-6, 1e-6, 1e-4, 1e-4, 1e-4], eventSamplesPerStep: 1 }).integrate(problem);
-    const sampled = new OdexSegmentIntegrator({ relativeTolerance: 1e-6, absoluteTolerance: [1e-6, 1e-6, 1e-4, 1e-4, 1e-4] }).integrate(problem);
+    const problem = { ...mode, t0: 0, x0: [i0, 1, vEq, 0, 0], tEnd: 2 * Math.PI / w0, events: [event], initialStep: 0.001, maxStep: 1 };
+    const stepEndsOnly = new OdexSegmentIntegrator({ stateSize: 5, relativeTolerance: 1e-6, absoluteTolerance: [1e-6, 1e-6, 1e-4, 1e-4, 1e-4], eventSamplesPerStep: 1 }).integrate(problem);
+    const sampled = new OdexSegmentIntegrator({ stateSize: 5, relativeTolerance: 1e-6, absoluteTolerance: [1e-6, 1e-6, 1e-4, 1e-4, 1e-4] }).integrate(problem);
     // Sign tests at step ends only miss it: that is what the interior samples are for.
     expect(stepEndsOnly.status).toBe('reached-end');
     expect(sampled.status).toBe('event');
