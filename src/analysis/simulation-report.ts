@@ -3,6 +3,7 @@
 import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { reflectedVoltage } from '../circuit/scenario.js';
 import type { VariantRun } from '../simulation/run-variant.js';
+import { outputCapacitanceEquivalents } from '../model/drain-capacitance.js';
 import { variantMetrics, type VariantMetrics } from './variant-metrics.js';
 
 /** Drain-voltage derating: keep the peak at or below 80 % of the rating (common practice). */
@@ -14,6 +15,9 @@ export interface SimulationReport {
   deratedLimit: number;
   supplyVoltage: number;
   reflectedVoltage: number;
+  /** The transistor's Coss curve as the datasheet's equivalent constants over 0…Vin + VR, F. */
+  drainCapacitanceEnergyEquivalent: number;
+  drainCapacitanceChargeEquivalent: number;
   variants: Partial<Record<VariantName, VariantMetrics & { marginToDeratedLimit: number }>>;
 }
 
@@ -30,12 +34,16 @@ export function simulationReport(scenario: Scenario, runs: readonly VariantRun[]
     const m = variantMetrics(run, rating);
     variants[run.variant] = { ...m, marginToDeratedLimit: deratedLimit - m.peakDrainVoltage };
   }
+  const vr = reflectedVoltage(scenario);
+  const equivalents = outputCapacitanceEquivalents(scenario.switch.drainCapacitance, scenario.supply.voltage + vr);
   return {
     scenario: scenario.name,
     voltageRating: rating,
     deratedLimit,
     supplyVoltage: scenario.supply.voltage,
-    reflectedVoltage: reflectedVoltage(scenario),
+    reflectedVoltage: vr,
+    drainCapacitanceEnergyEquivalent: equivalents.energyEquivalent,
+    drainCapacitanceChargeEquivalent: equivalents.chargeEquivalent,
     variants,
   };
 }

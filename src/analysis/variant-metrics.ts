@@ -32,8 +32,21 @@ export interface VariantMetrics {
   clampVoltageRipple?: number;
   clampResistorPower?: number;
   clampDiodePeakCurrent?: number;
+  /** Peak drain voltage minus the clamp level Vin + vc at that instant, V. */
+  peakAboveClamp?: number;
+  /** Forward, forward-recovery and reverse-recovery loss of the clamp diode, W. */
+  clampDiodePower?: number;
+  /** Charge the clamp diode conducts backwards each cycle (reverse recovery), C. */
+  clampDiodeReverseCharge?: number;
   damperResistorPower?: number;
   switchTurnOnLossPower: number;
+  /** Primary current when the switch actually opens, A. */
+  turnOffCurrent: number;
+  /** Channel loss while the current falls after opening, W. */
+  turnOffLossPower: number;
+  /** Energy the transistor absorbs in avalanche each cycle, J, and its mean power, W. */
+  avalancheEnergyPerCycle: number;
+  avalanchePower: number;
   inputPower: number;
   outputPower: number;
   energyBalance: EnergyBalance;
@@ -102,6 +115,10 @@ export function variantMetrics(run: VariantRun, voltageRating: number): VariantM
     dutyCycle: last.turnOffSeconds / period,
     peakPrimaryCurrent: Math.max(...cycles.map((c) => c.primaryPeakCurrent)),
     switchTurnOnLossPower: last.turnOnLoss / period,
+    turnOffCurrent: last.turnOffCurrent,
+    turnOffLossPower: energy('switchTurnOff') / period,
+    avalancheEnergyPerCycle: energy('avalanche'),
+    avalanchePower: energy('avalanche') / period,
     inputPower: supply / period,
     outputPower: delivered / period,
     energyBalance: {
@@ -122,6 +139,10 @@ export function variantMetrics(run: VariantRun, voltageRating: number): VariantM
     metrics.clampVoltageRipple = last.clampVoltage.max - last.clampVoltage.min;
     metrics.clampResistorPower = energy('clampResistor') / period;
     metrics.clampDiodePeakCurrent = Math.max(...cycles.map((c) => c.clampDiodePeakCurrent));
+    const peakCycle = cycles.reduce((a, b) => (b.drainVoltage.max > a.drainVoltage.max ? b : a));
+    metrics.peakAboveClamp = peakCycle.drainVoltage.max - (p.supplyVoltage + peakCycle.clampVoltageAtDrainPeak);
+    metrics.clampDiodePower = energy('clampDiode') / period;
+    metrics.clampDiodeReverseCharge = last.clampDiodeReverseCharge;
   }
   if (p.damper) metrics.damperResistorPower = energy('damperResistor') / period;
   return metrics;

@@ -21,6 +21,9 @@ export function scenarioToJson(s: Scenario): ScenarioJson {
       onResistance: s.switch.onResistance,
       bodyDiodeDrop: s.switch.bodyDiodeDrop,
       voltageRating: s.switch.voltageRating,
+      ...(s.switch.avalancheVoltage !== undefined ? { avalancheVoltage: s.switch.avalancheVoltage } : {}),
+      turnOffDelay: s.switch.turnOffDelay,
+      currentFallTime: s.switch.currentFallTime,
     },
     simulation: { ...s.simulation },
   };
@@ -30,13 +33,21 @@ export function scenarioToJson(s: Scenario): ScenarioJson {
   return out;
 }
 
-/** Reads a numeric field by its dotted path ("transformer.leakageInductance"), or undefined. */
+/** Datasheet points [[V, C], …] as they stand in a scenario after validation. */
+const isCurve = (node: unknown): node is Array<[number, number]> =>
+  Array.isArray(node) && node.length > 0 && node.every((p) => Array.isArray(p) && p.length === 2 && typeof p[1] === 'number');
+
+/**
+ * Reads a numeric field by its dotted path ("transformer.leakageInductance"), or undefined. A
+ * capacitance curve reads as its value at 0 V, so that a sweep or tolerance in % scales it.
+ */
 export function getNumberAt(json: Record<string, unknown>, path: string): number | undefined {
   let node: unknown = json;
   for (const key of path.split('.')) {
     if (typeof node !== 'object' || node === null || !Object.hasOwn(node, key)) return undefined;
     node = (node as Record<string, unknown>)[key];
   }
+  if (isCurve(node)) return node[0]![1];
   return typeof node === 'number' ? node : undefined;
 }
 
@@ -50,6 +61,9 @@ export function withNumberAt<T extends Record<string, unknown>>(json: T, path: s
     if (typeof next !== 'object' || next === null) throw new RangeError(`${path}: the block "${key}" is not in this scenario`);
     node = next as Record<string, unknown>;
   }
-  node[keys[keys.length - 1]!] = value;
+  const leaf = keys[keys.length - 1]!;
+  const old = node[leaf];
+  // A curve takes the new value at 0 V and every other point scales with it.
+  node[leaf] = isCurve(old) ? old.map(([v, c]) => [v, (c * value) / old[0]![1]]) : value;
   return copy;
 }

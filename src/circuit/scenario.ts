@@ -81,6 +81,8 @@ export interface ClampParts {
   diodeDrop: number;
   /** Stray inductance in series with the clamp diode, H (0: none). */
   loopInductance: number;
+  /** Series resistance of that loop (capacitor ESR, traces), Ω; with the loop inductance only. */
+  loopResistance: number;
   /** The clamp diode's junction capacitance while it blocks, F (0: none). */
   diodeCapacitance: number;
   /** Datasheet reverse-recovery time at IF = IR, recovered at 0.25·IR, s; absent: an ideal diode. */
@@ -129,6 +131,7 @@ export function availableVariants(scenario: Scenario): VariantName[] {
 /** Defaults of the optional part fields: ideal parts, as before these fields existed. */
 export const DEFAULT_CLAMP_EXTRAS = {
   loopInductance: 0,
+  loopResistance: 0,
   diodeCapacitance: 0,
   /** TM/τ = 0.1: an assumption (the survey behind the model saw clamp loss move up to 1.6× across this ratio); set it per diode. */
   diodeTransitTimeRatio: 0.1,

@@ -55,6 +55,7 @@ const SCENARIO_SPEC: BlockSpec = block({
     capacitance: num('F', 'positive'),
     diodeDrop: num('V', 'non-negative', 1.0),
     loopInductance: num('H', 'non-negative', DEFAULT_CLAMP_EXTRAS.loopInductance),
+    loopResistance: num('Ω', 'non-negative', DEFAULT_CLAMP_EXTRAS.loopResistance),
     diodeCapacitance: num('F', 'non-negative', DEFAULT_CLAMP_EXTRAS.diodeCapacitance),
     diodeRecoveryTime: num('s', 'positive', 'absent'),
     diodeTransitTimeRatio: setting('positive', DEFAULT_CLAMP_EXTRAS.diodeTransitTimeRatio, [0.001, 10]),

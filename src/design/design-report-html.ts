@@ -99,7 +99,7 @@ ${rows(verification)}</table>
 <h3>Drain voltage at the worst case</h3>
 ${drainPlotSvg(worstCaseRuns, scenario.switch.voltageRating, h.deratedLimit)}
 ${d.notes.length ? `<h2>Notes</h2><ul>${d.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : ''}
-<p style="color:#6b6358;font-size:12px">Made by flyclamp. The model leaves out the drain capacitance's voltage dependence, diode recovery, core loss and winding capacitance; see the README.</p>
+<p style="color:#6b6358;font-size:12px">Made by flyclamp. The model leaves out core loss, output ripple, the control loop and temperature; parts it does model are only as real as the scenario gives them (a Coss curve, the clamp loop, diode recovery). See the README.</p>
 </body></html>
 `;
 }

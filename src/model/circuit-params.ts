@@ -71,9 +71,12 @@ function clampParams(c: ClampParts): ClampParams {
     ? forwardRecoveryParams(c.diodeForwardRecoveryVoltage, c.diodeDrop, c.diodeForwardRecoveryTime, c.diodeForwardRecoveryRate)
     : null;
   const lifetime = c.diodeRecoveryTime === undefined ? null : c.diodeRecoveryTime / recoveryTimeOverLifetime(c.diodeTransitTimeRatio);
+  const loopInductance = forward && c.loopInductance === 0 ? FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE : c.loopInductance;
   return {
     ...c,
-    loopInductance: forward && c.loopInductance === 0 ? FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE : c.loopInductance,
+    loopInductance,
+    // A loop resistance belongs to the loop: with no loop inductance the branch has no series element.
+    loopResistance: loopInductance > 0 ? c.loopResistance : 0,
     recovery: lifetime === null ? null : { lifetime, transitTime: c.diodeTransitTimeRatio * lifetime },
     forwardRecovery: forward,
   };

@@ -141,10 +141,12 @@ export class ModeModel {
       let dq = 0;
       if (loop > 0) {
         const cj = clamp.diodeCapacitance;
+        // The loop's own resistance (capacitor ESR, traces) is what damps its ring.
+        const vLoop = vd - vk - clamp.loopResistance * branch;
         if (m.clampDiode === 'on') {
           const fr = clamp.forwardRecovery;
           vDiode = vf + (fr ? (branch * fr.resistance * fr.charge) / (fr.charge + q) : 0);
-          d[IC] = (vd - vDiode - vk) / loop;
+          d[IC] = (vLoop - vDiode) / loop;
           iD = branch;
           dq = rec ? iD - q / rec.lifetime : iD;
         } else if (m.clampDiode === 'recovering') {
@@ -152,19 +154,19 @@ export class ModeModel {
           dq = -q * (1 / rec!.lifetime + 1 / rec!.transitTime);
           if (cj > 0) {
             d[VJ] = (branch - iD) / cj;
-            d[IC] = (vd - x[VJ]! - vk) / loop;
+            d[IC] = (vLoop - x[VJ]!) / loop;
             vDiode = x[VJ]!;
           } else {
             // In series with the loop, the current source sets the branch current.
             d[IC] = -dq / rec!.transitTime;
-            vDiode = vd - vk - loop * d[IC]!;
+            vDiode = vLoop - loop * d[IC]!;
           }
         } else if (cj > 0) {
           d[VJ] = branch / cj;
-          d[IC] = (vd - x[VJ]! - vk) / loop;
+          d[IC] = (vLoop - x[VJ]!) / loop;
           vDiode = x[VJ]!;
         } else {
-          vDiode = vd - vk;
+          vDiode = vLoop;
         }
         dBranch = d[IC]!;
         d[VC] = (branch - vc / clamp.resistance) / clamp.capacitance;

@@ -6,7 +6,7 @@ import { IC, IM, IP, VC, VJ, VS } from './state.js';
 
 export const POWER_TERMS = [
   'supply', 'load', 'outputDiode', 'primaryResistance', 'switchChannel', 'switchTurnOff',
-  'clampResistor', 'clampDiode', 'bodyDiode', 'avalanche', 'damperResistor',
+  'clampResistor', 'clampDiode', 'clampLoopResistance', 'bodyDiode', 'avalanche', 'damperResistor',
 ] as const;
 export type PowerTerm = (typeof POWER_TERMS)[number];
 export const powerIndex = (term: PowerTerm): number => POWER_TERMS.indexOf(term);
@@ -26,9 +26,10 @@ export function instantaneousPowers(p: CircuitParams, mm: ModeModel, x: ArrayLik
   out[5] = s.fallingChannelCurrent * vd;
   out[6] = p.clamp ? (vc * vc) / p.clamp.resistance : 0;
   out[7] = s.clampDiodeVoltage * s.clampDiodeCurrent;
-  out[8] = p.bodyDiodeDrop * s.bodyDiodeCurrent;
-  out[9] = s.avalancheCurrent * vd;
-  out[10] = p.damper ? s.damperCurrent * s.damperCurrent * p.damper.resistance : 0;
+  out[8] = p.clamp ? p.clamp.loopResistance * s.clampBranchCurrent * s.clampBranchCurrent : 0;
+  out[9] = p.bodyDiodeDrop * s.bodyDiodeCurrent;
+  out[10] = s.avalancheCurrent * vd;
+  out[11] = p.damper ? s.damperCurrent * s.damperCurrent * p.damper.resistance : 0;
 }
 
 /** Energy (J) held in the inductances and capacitances. */

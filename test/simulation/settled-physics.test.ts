@@ -5,6 +5,8 @@ import { variantMetrics } from '../../src/analysis/variant-metrics.js';
 import { loadScenarioFile } from '../../src/circuit/load-scenario.js';
 import { availableVariants, reflectedVoltage, type Scenario } from '../../src/circuit/scenario.js';
 import { labScenario } from '../support/lab-scenarios.js';
+import { withIdealParts } from '../../src/model/ideal-parts.js';
+import { circuitForVariant, leakageRingPeriodSeconds } from '../../src/model/circuit-params.js';
 
 const demoFiles = readdirSync('scenarios').filter((f) => f.endsWith('.json')).map((f) => `scenarios/${f}`);
 async function demo(file: string): Promise<Scenario> {
@@ -46,19 +48,28 @@ describe('bare drain overshoot against the energy balance', () => {
 });
 
 describe.each(demoFiles)('settled demo scenario %s', (file) => {
-  it('balances energy over a settled period: supply = load + every loss + stored change, within 1e-5 of the input', async () => {
+  it('balances energy over a settled period: supply = load + every loss + stored change, within 3e-5 of the input; ideal parts cost at most 150 evaluations per leakage ring period, real parts at most 6× that', async () => {
     const scenario = await demo(file);
+    const ideal = withIdealParts(scenario);
     for (const variant of availableVariants(scenario)) {
       const m = variantMetrics(runVariant(scenario, variant), scenario.switch.voltageRating);
+      const mIdeal = variantMetrics(runVariant(ideal, variant), scenario.switch.voltageRating);
       expect(m.settled).toBe(true);
-      expect(Math.abs(m.energyBalance.relativeMismatch), `${variant}`).toBeLessThan(1e-5);
-      // Work budget at the default tolerance (deterministic counts, not time): ≤ 10,000 evaluations per period.
-      expect(m.stats.evaluationsPerPeriod, `${variant} evaluations per period`).toBeLessThan(10_000);
+      // 1e-5 with constant parts; a Coss curve's points are kinks the solver pays for in accuracy at the default rtol.
+      expect(Math.abs(mIdeal.energyBalance.relativeMismatch), `${variant}, ideal parts`).toBeLessThan(1e-5);
+      expect(Math.abs(m.energyBalance.relativeMismatch), `${variant}`).toBeLessThan(3e-5);
+      // Work budgets at the default tolerance (deterministic counts, not time).
+      // The work follows the number of leakage rings per period (about 100–160 evaluations per ring, measured).
+      const ringsPerPeriod = 1 / (scenario.switch.frequency * leakageRingPeriodSeconds(circuitForVariant(ideal, variant)));
+      expect(mIdeal.stats.evaluationsPerPeriod / ringsPerPeriod, `${variant} evaluations per ring, ideal parts`).toBeLessThan(150);
+      // Curve points are kinks and a clamp loop rings fast while the diode conducts (measured 1.3–5.2×).
+      expect(m.stats.evaluationsPerPeriod / mIdeal.stats.evaluationsPerPeriod, `${variant} cost of real parts`).toBeLessThan(6);
     }
-  }, 60_000);
+  }, 120_000);
 
-  it('the clamp lowers the peak and its ripple matches ΔVc ≈ Vc/(R·C·fsw) within 25 percent (AN-4147, from memory)', async () => {
-    const scenario = await demo(file);
+  it('the clamp lowers the peak and, with ideal parts, its ripple matches ΔVc ≈ Vc/(R·C·fsw) within 25 percent (AN-4147, from memory)', async () => {
+    // The estimate assumes an ideal diode: a recovering one takes charge back each cycle.
+    const scenario = withIdealParts(await demo(file));
     const bare = variantMetrics(runVariant(scenario, 'bare'), 1);
     const clamp = variantMetrics(runVariant(scenario, 'clamp'), 1);
     expect(clamp.peakDrainVoltage).toBeLessThan(bare.peakDrainVoltage);
