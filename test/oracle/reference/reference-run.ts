@@ -21,8 +21,13 @@
 //     turn-on), is supplied by no power term. It is charged to the switch channel (physically the
 //     channel also carries Cnode·dvd/dt): switchChannel = ∫vd·isw dt − that change, and the change
 //     is reported separately as switchChannelNodeEnergyCorrectionJoules (≈ ½·Cnode·(Ron·Ipk)²).
-//  5. Avalanche with Ls = 0: the clamp diode is forced off (stored charge dropped) while the drain
-//     avalanches, also when a conducting clamp's level Vin + vc + Vf reaches Vav.
+//  5. Avalanche with Ls = 0: the spec's "the clamp diode is off while the drain avalanches" holds
+//     when the free drain reaches Vav below the clamp level. It is ill-posed when a conducting
+//     clamp's level Vin + vc + Vf rises to Vav, or when vc decays during the avalanche until
+//     Vin + vc + Vf falls to Vav: the ideal diode would then be forward-biased by more than Vf (an
+//     impulsive charge of Cc and a jump of vd when the avalanche ends). Our reading: both conduct,
+//     vd = Vav holds vc = Vav − Vin − Vf, the diode carries vc/Rc and the avalanche the rest; when
+//     the avalanche current falls to 0 the clamp goes on alone. Energy is conserved throughout.
 //  6. A Ls = 0 clamp still conducting when the switch turns on is cut off (recovering if it holds
 //     charge); it does not happen in any case tested here.
 //  7. Forward recovery with Ls = 0 uses Ls = 1 nH (as the spec says the engine does); Cj is then a

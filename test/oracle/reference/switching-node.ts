@@ -91,12 +91,12 @@ export const DEFAULT_STEP_SETTINGS: StepSettings = { stepsPerRing: 200, stepsPer
 const EV_PEAK = 0, EV_OUT_ON = 1, EV_OUT_OFF = 2, EV_BODY_ON = 3, EV_BODY_OFF = 4, EV_AVAL_ON = 5, EV_AVAL_OFF = 6,
   EV_SEG_UP = 7, EV_SEG_DOWN = 8, EV_CLAMP0_ON = 9, EV_CLAMP0_OFF = 10, EV_CLAMP0_RECOVER = 11, EV_CLAMPED_AVAL = 12,
   EV_CL_STOP = 13, EV_CL_RECOVER = 14, EV_CL_START_CJ = 15, EV_CL_START = 16, EV_CL_RESTART = 17, EV_REC_END = 18,
-  EV_REVERSE_ZERO = 19;
+  EV_REVERSE_ZERO = 19, EV_AVAL_CLAMP_ON = 20;
 const EVENT_NAMES = [
   'peak-current', 'output-diode-on', 'output-diode-off', 'body-diode-on', 'body-diode-off', 'avalanche-on', 'avalanche-off',
   'coss-breakpoint-up', 'coss-breakpoint-down', 'clamp-diode-on', 'clamp-diode-off', 'clamp-diode-recovers', 'clamped-drain-avalanches',
   'clamp-diode-off', 'clamp-diode-recovers', 'clamp-diode-on', 'clamp-diode-on', 'clamp-diode-on-again', 'clamp-diode-blocks',
-  'clamp-diode-current-zero',
+  'clamp-diode-current-zero', 'clamp-diode-on-during-avalanche',
 ] as const;
 
 interface ActiveEvent { kind: number; threshold: number; marker: boolean }
@@ -340,7 +340,11 @@ export class SwitchingNode {
     const id = this.hasDamper ? (vd - vs) / this.rs : 0;
 
     let vcDot = 0;
-    if (m.drain === 'clamped') {
+    if (m.drain === 'avalanche' && this.hasClamp && ls === 0 && m.clampDiode === 'conducting') {
+      // Avalanche and an Ls = 0 clamp together: vd = Vav holds vc at Vav − Vin − Vf, so the diode
+      // carries just vc/Rc and the avalanche takes the rest (our reading, see reference-run.ts).
+      ibc = vc / this.rc;
+    } else if (m.drain === 'clamped') {
       // (Cc + Cnode)·dvc/dt = ip − id − ich − vc/Rc; icd = ip − id − ich − Cnode·dvc/dt.
       const cn = this.capacitance.nodeOnSegment(m.segment, vd);
       vcDot = (ip - id - ich - vc / this.rc) / (this.cc + cn);
@@ -487,7 +491,10 @@ export class SwitchingNode {
         if (ls0 && m.clampDiode !== 'conducting') add(EV_CLAMP0_ON, vScale);
         break;
       case 'body': add(EV_BODY_OFF, iScale); break;
-      case 'avalanche': add(EV_AVAL_OFF, iScale); break;
+      case 'avalanche':
+        add(EV_AVAL_OFF, iScale);
+        if (ls0 && m.clampDiode !== 'conducting') add(EV_AVAL_CLAMP_ON, vScale);
+        break;
       case 'clamped':
         add(this.recovery === undefined ? EV_CLAMP0_OFF : EV_CLAMP0_RECOVER, iScale);
         if (this.vav !== undefined) add(EV_CLAMPED_AVAL, vScale);
@@ -531,6 +538,7 @@ export class SwitchingNode {
       case EV_CL_RESTART: return a.vdiode - this.vf;
       case EV_REC_END: return this.recoveredCharge - x[QM]!;
       case EV_REVERSE_ZERO: return -a.iD;
+      case EV_AVAL_CLAMP_ON: return (this.vav ?? 0) - this.vin - x[VC]! - this.vf;
       default: throw new Error(`unknown event ${kind}`);
     }
   }
@@ -546,18 +554,21 @@ export class SwitchingNode {
       case EV_OUT_ON: m.outputDiodeOn = true; break;
       case EV_OUT_OFF: m.outputDiodeOn = false; x[IM] = x[IP]!; break;
       case EV_BODY_ON: m.drain = 'body'; break;
-      case EV_BODY_OFF: case EV_AVAL_OFF: m.drain = 'free'; m.segment = this.capacitance.segmentOf(a.vd); x[VD] = a.vd; break;
-      case EV_AVAL_ON:
-        m.drain = 'avalanche';
-        // Spec: with Ls = 0 the clamp diode is off while the drain avalanches.
-        if (this.hasClamp && this.loopHenries === 0) { m.clampDiode = 'blocking'; x[QM] = 0; }
+      case EV_BODY_OFF: m.drain = 'free'; m.segment = this.capacitance.segmentOf(a.vd); x[VD] = a.vd; break;
+      case EV_AVAL_OFF:
+        // An Ls = 0 clamp that conducted beside the avalanche goes on alone, at the same vd.
+        m.drain = this.hasClamp && this.loopHenries === 0 && m.clampDiode === 'conducting' ? 'clamped' : 'free';
+        m.segment = this.capacitance.segmentOf(a.vd);
+        x[VD] = a.vd;
         break;
+      case EV_AVAL_ON: m.drain = 'avalanche'; break;
+      case EV_AVAL_CLAMP_ON: m.clampDiode = 'conducting'; break;
       case EV_SEG_UP: m.segment++; break;
       case EV_SEG_DOWN: m.segment--; break;
       case EV_CLAMP0_ON: m.drain = 'clamped'; m.clampDiode = 'conducting'; break;
       case EV_CLAMP0_OFF: m.drain = 'free'; m.clampDiode = 'blocking'; x[QM] = 0; x[VD] = a.vd; m.segment = this.capacitance.segmentOf(a.vd); break;
       case EV_CLAMP0_RECOVER: m.drain = 'free'; m.clampDiode = 'recovering'; x[VD] = a.vd; m.segment = this.capacitance.segmentOf(a.vd); break;
-      case EV_CLAMPED_AVAL: m.drain = 'avalanche'; m.clampDiode = 'blocking'; x[QM] = 0; break;
+      case EV_CLAMPED_AVAL: m.drain = 'avalanche'; break;
       case EV_CL_STOP:
         m.clampDiode = 'blocking';
         x[QM] = 0;
