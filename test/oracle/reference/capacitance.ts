@@ -102,6 +102,12 @@ export class DrainCapacitance {
 
   coss(v: number): number { return this.cossOnSegment(this.segmentOf(v), v); }
 
+  /** dCoss/dv by the formula of segment s, F/V. */
+  cossSlopeOnSegment(s: number, v: number): number {
+    if (s <= 0 || s >= this.volts.length) return 0;
+    return this.slopes[s]! * this.cossOnSegment(s, v);
+  }
+
   /** Cnode on segment s, F. */
   nodeOnSegment(s: number, v: number): number { return this.cossOnSegment(s, v) + this.extraFarads; }
 

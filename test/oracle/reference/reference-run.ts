@@ -33,8 +33,8 @@
 //  7. Forward recovery with Ls = 0 uses Ls = 1 nH (as the spec says the engine does); Cj is then a
 //     state of that loop, not lumped with the drain.
 //  8. tfr: t* = tfr/19.95 exactly as the spec writes (the root of 2s/(1 + s²) = 0.1 is 19.9499).
-//  9. clampDiodePeakCurrent: maxima refined inside a step where iD is a state (Ls > 0); with Ls = 0
-//     the diode current is largest where conduction starts, an event instant, so step ends suffice.
+//  9. clampDiodePeakCurrent: maxima located inside a step from the sign change of d iD/dt (a state
+//     derivative when Ls > 0; the analytic derivative of the algebraic icd when Ls = 0).
 // 10. The metrics are over one recorded settled period (all settled periods are the same to 1e-9).
 
 import { equivalentCapacitances } from './capacitance.js';

@@ -53,7 +53,11 @@ export class NodeAux {
   iDDot = Number.NaN;
   vdiode = 0; ib = 0; iav = 0; isw = 0; vm = 0; isec = 0;
 
-  copyFrom(o: NodeAux): void { Object.assign(this, o); }
+  copyFrom(o: NodeAux): void {
+    this.t = o.t; this.ip = o.ip; this.im = o.im; this.vd = o.vd; this.vdDot = o.vdDot; this.vc = o.vc; this.vcDot = o.vcDot;
+    this.iN = o.iN; this.id = o.id; this.ich = o.ich; this.ibc = o.ibc; this.iD = o.iD; this.iDDot = o.iDDot;
+    this.vdiode = o.vdiode; this.ib = o.ib; this.iav = o.iav; this.isw = o.isw; this.vm = o.vm; this.isec = o.isec;
+  }
 }
 
 export interface PeriodRecorder {
@@ -433,6 +437,19 @@ export class SwitchingNode {
       dim = dip;
       vm = this.lm * dip;
       isec = 0;
+    }
+
+    if (m.drain === 'clamped') {
+      // iD = (Cc·u + Cnode·vc/Rc)/(Cc + Cnode) with u = ip − id − ich; its time derivative lets the
+      // recorder locate the diode's peak current inside a step (it peaks after the start with a damper).
+      const cn = this.capacitance.nodeOnSegment(m.segment, vd);
+      const cnDot = this.capacitance.cossSlopeOnSegment(m.segment, vd) * vcDot;
+      const u = ip - id - ich;
+      const ichDot = m.phase === 'fall' && ich > 0 ? -m.fallStartAmps / this.tf : 0;
+      const idDot = this.hasDamper ? (vcDot - id / this.cs) / this.rs : 0;
+      const uDot = dip - idDot - ichDot;
+      const sum = this.cc + cn;
+      iDDot = (this.cc * uDot + cnDot * vc / this.rc + cn * vcDot / this.rc) / sum - ((this.cc * u + cn * vc / this.rc) * cnDot) / (sum * sum);
     }
 
     dx[IP] = dip;
