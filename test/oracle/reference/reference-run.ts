@@ -61,7 +61,7 @@ export interface ReferenceOptions {
   initialCycles?: number;
   /** Newton iterations at most (default 25). */
   maxNewtonIterations?: number;
-  /** Scaled residual at which Newton stops (default 1e-12). */
+  /** Scaled residual at which Newton stops (default 1e-11). */
   newtonTolerance?: number;
   /** Largest scaled change over the verification period for `settled` (default 1e-9). */
   settleTolerance?: number;
@@ -244,7 +244,7 @@ export function settle(node: SwitchingNode, options: ReferenceOptions = {}): { x
   let { x, mode } = node.initialState();
   let base = map(x, mode);
   for (let k = 1; k < (options.initialCycles ?? 4); k++) base = map(base.end, base.mode);
-  const tolerance = options.newtonTolerance ?? 1e-12;
+  const tolerance = options.newtonTolerance ?? 1e-11;
   let iterations = 0;
   let residual = norm(residualOf(base));
   for (; iterations < (options.maxNewtonIterations ?? 25) && residual >= tolerance; iterations++) {
@@ -267,21 +267,26 @@ export function settle(node: SwitchingNode, options: ReferenceOptions = {}): { x
     // (J − I)·Δ = −r in scaled variables.
     const matrix = jacobian.map((row, i) => row.map((v, j) => v - (i === j ? 1 : 0)));
     const step = solveDense(matrix, r.map((v) => -v));
+    // A short line search only: far from the orbit the map is not smooth (device events come and
+    // go), and a few plain cycles then do better than a tiny Newton step.
     let accepted = false;
-    for (let lambda = 1; lambda > 1 / 64; lambda /= 2) {
+    let stalled = false;
+    for (let lambda = 1; lambda >= 0.25; lambda /= 2) {
       const z = Float64Array.from(base.start);
       components.forEach((c, i) => { z[c]! += lambda * step[i]! * scales[i]!; });
       const trial = map(z, base.mode);
       const trialResidual = norm(residualOf(trial));
-      if (trialResidual < residual) {
+      if (trialResidual < 0.9 * residual || (residual < 100 * tolerance && trialResidual < residual)) {
+        // Near the noise floor of the period map (event location, rounding) a weak step means done.
+        stalled = residual < 100 * tolerance && trialResidual > 0.5 * residual;
         base = trial;
         residual = trialResidual;
         accepted = true;
         break;
       }
     }
+    if (stalled) break;
     if (!accepted) {
-      // Newton made no progress (a mode sequence changed under the step): plain cycles instead.
       for (let k = 0; k < 3; k++) base = map(base.end, base.mode);
       residual = norm(residualOf(base));
     }
