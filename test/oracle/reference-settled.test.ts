@@ -230,3 +230,34 @@ describe('reference model: each real part settles with a closed energy balance (
     expect(r.drainCapacitanceChargeEquivalent).toBe(alone.chargeFarads);
   }, 60_000);
 });
+
+describe('reference model: step halving with real parts (breakpoints, the fall end and device events are landed on, so RK4 keeps its order)', () => {
+  const FINE = { stepsPerRing: 400, stepsPerTimeConstant: 48, minStepsPerPeriod: 2000 };
+  const cases: Array<{ name: string; variant: Variant; scenario: Json; keys: ReadonlyArray<keyof ReferenceMetrics> }> = [
+    {
+      name: 'Coss curve, Cw, td and tf with damper', variant: 'damped',
+      scenario: elementScenario((s) => {
+        s.switch['drainCapacitance'] = CURVE; s.transformer['windingCapacitance'] = '20p';
+        s.switch['turnOffDelay'] = '60n'; s.switch['currentFallTime'] = '20n';
+      }),
+      keys: ['peakDrainVoltage', 'clampVoltageMean', 'clampVoltageRipple', 'damperResistorPower', 'clampDiodePeakCurrent', 'switchTurnOnLossPower', 'turnOffLossPower'],
+    },
+    {
+      name: 'reverse recovery with Ls', variant: 'clamp',
+      scenario: elementScenario((s) => { s.clamp['diodeRecoveryTime'] = '35n'; s.clamp['loopInductance'] = '30n'; }),
+      keys: ['peakDrainVoltage', 'clampVoltageMean', 'clampVoltageRipple', 'clampDiodePeakCurrent', 'clampDiodePower', 'clampDiodeReverseCharge'],
+    },
+  ];
+  for (const c of cases) {
+    it(`${c.name}: each metric changes by < 1e-6 relative`, () => {
+      const coarse = referenceRun(c.scenario, c.variant);
+      const fine = referenceRun(c.scenario, c.variant, FINE);
+      for (const key of c.keys) {
+        const a = coarse.metrics[key], b = fine.metrics[key];
+        expect(a, key).not.toBeNull();
+        expect(b, key).not.toBe(0);
+        expect((16 / 15) * Math.abs(a! - b!) / Math.abs(b!), key).toBeLessThan(1e-6);
+      }
+    }, 60_000);
+  }
+});
