@@ -261,3 +261,22 @@ describe('reference model: step halving with real parts (breakpoints, the fall e
     }, 60_000);
   }
 });
+
+describe('reference model: the optional trace of the recorded period', () => {
+  it('covers 0…T in order, holds the turn-off event, and its step-end maximum lies just under the refined peak', () => {
+    const json = readDemo('bias-48v.json');
+    const r = referenceRun(json, 'clamp', { trace: true });
+    const trace = r.trace!;
+    const period = 1 / 200e3;
+    expect(trace.timeSeconds[0]).toBe(0);
+    expect(Math.abs(trace.timeSeconds[trace.timeSeconds.length - 1]! - period)).toBeLessThan(1e-15 * period);
+    expect(trace.timeSeconds.every((t, k) => k === 0 || t >= trace.timeSeconds[k - 1]!)).toBe(true);
+    expect(trace.events.some((e) => e.name === 'switch-opens' && e.seconds === r.turnOffSeconds)).toBe(true);
+    const stepMax = Math.max(...trace.drainVolts);
+    // Refinement can only raise the maximum; with 200 steps per ring a step-end sample is within
+    // (π/200)²/2 ≈ 1.2e-4 of the ring amplitude of the true peak (Taylor; common practice).
+    expect(stepMax).toBeLessThanOrEqual(r.metrics.peakDrainVoltage);
+    expect(r.metrics.peakDrainVoltage - stepMax).toBeLessThan(1e-3 * (r.supplyVoltage + r.reflectedVoltage));
+    expect(trace.drainVolts.length).toBe(trace.clampDiodeAmps.length);
+  }, 60_000);
+});

@@ -65,6 +65,20 @@ export interface ReferenceOptions {
   newtonTolerance?: number;
   /** Largest scaled change over the verification period for `settled` (default 1e-9). */
   settleTolerance?: number;
+  /** Keep the recorded period's states at every step end and event (default false). */
+  trace?: boolean;
+}
+
+/** The recorded settled period at full step resolution (step ends and both sides of every event). */
+export interface ReferenceTrace {
+  timeSeconds: number[];
+  drainVolts: number[];
+  /** Clamp-capacitor voltage above the rail, V. */
+  clampVolts: number[];
+  primaryAmps: number[];
+  magnetizingAmps: number[];
+  clampDiodeAmps: number[];
+  events: Array<{ name: string; seconds: number }>;
 }
 
 export interface ReferenceMetrics {
@@ -133,6 +147,7 @@ export interface ReferenceResult {
   conduction: 'CCM' | 'DCM';
   turnOffSeconds: number;
   work: ReferenceWork;
+  trace?: ReferenceTrace;
 }
 
 /** Running extremes of one recorded period, maxima located inside steps on the re-integration. */
@@ -146,10 +161,23 @@ export class ExtremaRecorder implements PeriodRecorder {
   readonly drainMinima: Array<{ seconds: number; volts: number }> = [];
   readonly events: Array<{ name: string; seconds: number; ip: number; im: number; vd: number; vc: number }> = [];
   private readonly probe = new NodeAux();
+  readonly trace: ReferenceTrace | undefined;
 
-  constructor(private readonly supplyVolts: number) {}
+  constructor(private readonly supplyVolts: number, keepTrace = false) {
+    this.trace = keepTrace
+      ? { timeSeconds: [], drainVolts: [], clampVolts: [], primaryAmps: [], magnetizingAmps: [], clampDiodeAmps: [], events: [] }
+      : undefined;
+  }
 
   point(a: Readonly<NodeAux>): void {
+    if (this.trace !== undefined) {
+      this.trace.timeSeconds.push(a.t);
+      this.trace.drainVolts.push(a.vd);
+      this.trace.clampVolts.push(a.vc);
+      this.trace.primaryAmps.push(a.ip);
+      this.trace.magnetizingAmps.push(a.im);
+      this.trace.clampDiodeAmps.push(a.iD);
+    }
     this.drain(a);
     this.clampMaxVolts = Math.max(this.clampMaxVolts, a.vc);
     this.clampMinVolts = Math.min(this.clampMinVolts, a.vc);
@@ -179,6 +207,7 @@ export class ExtremaRecorder implements PeriodRecorder {
 
   event(name: string, a: Readonly<NodeAux>): void {
     this.events.push({ name, seconds: a.t, ip: a.ip, im: a.im, vd: a.vd, vc: a.vc });
+    this.trace?.events.push({ name, seconds: a.t });
   }
 
   private drain(a: Readonly<NodeAux>): void {
@@ -305,7 +334,7 @@ export function referenceRunNetlist(netlist: ReferenceNetlist, variant: Variant,
   const started = performance.now();
   const node = new SwitchingNode(netlist, variant, stepSettings(options));
   const settled = settle(node, options);
-  const recorder = new ExtremaRecorder(netlist.supplyVolts);
+  const recorder = new ExtremaRecorder(netlist.supplyVolts, options.trace === true);
   const start = Float64Array.from(settled.x);
   node.projectStart(start, settled.mode);
   const run = node.runPeriod(start, settled.mode, recorder);
@@ -360,7 +389,7 @@ export function referenceRunNetlist(netlist: ReferenceNetlist, variant: Variant,
 
   const vr = reflectedVolts(netlist);
   const equivalents = equivalentCapacitances(netlist.coss, netlist.supplyVolts + vr);
-  return {
+  const result: ReferenceResult = {
     scenario: netlist.name,
     variant,
     supplyVoltage: netlist.supplyVolts,
@@ -383,6 +412,8 @@ export function referenceRunNetlist(netlist: ReferenceNetlist, variant: Variant,
       wallSeconds: (performance.now() - started) / 1000,
     },
   };
+  if (recorder.trace !== undefined) result.trace = recorder.trace;
+  return result;
 }
 
 /** The variants a scenario has: bare always, clamp with a clamp block, damped with a damper block. */
