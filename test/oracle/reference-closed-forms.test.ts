@@ -10,7 +10,7 @@ import {
 import { locateRisingRoot, RungeKutta4 } from './reference/integrator.js';
 import { readScenario, reflectedVolts, type CossPoint } from './reference/netlist.js';
 import { ExtremaRecorder } from './reference/reference-run.js';
-import { SwitchingNode } from './reference/switching-node.js';
+import { E_AVALANCHE, E_TURN_OFF, SwitchingNode } from './reference/switching-node.js';
 
 // A lossless bare primary: Rp = 0, Ron = 0 (vd = 0 while on, so the on-time ramp is exactly
 // Vin·t/(Lm + Llk)), fixed duty 0.1 so that the ring stays above the body diode.
@@ -25,13 +25,13 @@ function losslessScenario(drainCapacitance: unknown, switchExtras: Record<string
 }
 
 /** First period from rest (all currents 0), recorded. */
-function firstPeriod(json: unknown): { recorder: ExtremaRecorder; turnOffAmps: number; openSeconds: number } {
+function firstPeriod(json: unknown): { recorder: ExtremaRecorder; turnOffAmps: number; openSeconds: number; end: Float64Array } {
   const netlist = readScenario(json);
   const node = new SwitchingNode(netlist, 'bare');
   const { x, mode } = node.initialState();
   const recorder = new ExtremaRecorder(netlist.supplyVolts);
   const run = node.runPeriod(x, mode, recorder);
-  return { recorder, turnOffAmps: run.outcome.turnOffAmps, openSeconds: run.outcome.openSeconds };
+  return { recorder, turnOffAmps: run.outcome.turnOffAmps, openSeconds: run.outcome.openSeconds, end: run.x };
 }
 
 /**
@@ -124,6 +124,45 @@ describe('reference model: bare first swing with no loss (energy balance; any ci
     // The swing crosses every breakpoint, so each segment's formula is exercised.
     expect(expected).toBeGreaterThan(120);
     expect(Math.abs(peak!.volts - expected) / expected).toBeLessThan(1e-8);
+  });
+});
+
+describe('reference model: avalanche and current fall on the lossless first swing (closed forms; any circuits text)', () => {
+  const c = 180e-12;
+
+  it('avalanche at Vav clips the swing and absorbs Vav·Llk·Iav²/(2·(Vav − E)) (linear current fall on Llk at E − Vav), to 1e-9', () => {
+    const vav = 120;
+    const json = losslessScenario('180p', { avalancheVoltage: vav });
+    const n = readScenario(json);
+    const vin = n.supplyVolts, vr = reflectedVolts(n), lm = n.magnetizingHenries, llk = n.leakageHenries;
+    const run = firstPeriod(json);
+    const l1 = lm + llk, e = vin + vr, ePrime = vin + (vr * l1) / lm, i = run.turnOffAmps;
+    // Phase 1 as in firstSwingPeak; then ½Llk·ip² + ½C(vd − E)² is constant up to vd = Vav.
+    const i1Squared = i * i + (c / l1) * (vin * vin - (ePrime - vin) ** 2);
+    const iavSquared = i1Squared + (c / llk) * ((ePrime - e) ** 2 - (vav - e) ** 2);
+    const expected = (vav * llk * iavSquared) / (2 * (vav - e));
+    // The avalanche starts at the located crossing, on its far side by at most the location tolerance.
+    expect(Math.abs(run.recorder.peakDrainVolts - vav)).toBeLessThan(1e-12 * vav);
+    expect(Math.abs(run.end[E_AVALANCHE]! - expected) / expected).toBeLessThan(1e-9);
+  });
+
+  it('a linear channel-current fall over tf dissipates I·vp·[tf/2 − (1 − cos ωtf)/(ω²·tf)], vp = Vin + I·(Lm + Llk)/tf, ω = 1/√((Lm + Llk)·C), to 1e-8', () => {
+    // During the fall the output diode is off (vd stays below E'): (Lm + Llk)·dip/dt = Vin − vd,
+    // C·dvd/dt = ip − I·(1 − s/tf), vd(0) = 0, dvd/dt(0) = 0, so vd = vp·(1 − cos ωs) and the
+    // integral of vd·I·(1 − s/tf) over the fall is the expression above (integration by parts).
+    const tf = 20e-9;
+    const json = losslessScenario('180p', { currentFallTime: tf });
+    const n = readScenario(json);
+    const l1 = n.magnetizingHenries + n.leakageHenries;
+    const run = firstPeriod(json);
+    const i = run.turnOffAmps;
+    const omega = 1 / Math.sqrt(l1 * c);
+    const vp = n.supplyVolts + (i * l1) / tf;
+    const expected = i * vp * (tf / 2 - (1 - Math.cos(omega * tf)) / (omega * omega * tf));
+    expect(vp * (1 - Math.cos(omega * tf))).toBeLessThan(n.supplyVolts + reflectedVolts(n)); // output diode stays off
+    // The fall gets tf/24 steps by default: the RK4 error is ~2e-9 here and falls 16× per halving
+    // of the step (checked by hand at 100…800 steps per ring), hence 1e-8.
+    expect(Math.abs(run.end[E_TURN_OFF]! - expected) / expected).toBeLessThan(1e-8);
   });
 });
 
