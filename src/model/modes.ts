@@ -209,7 +209,8 @@ export class ModeModel {
     s.drainVoltage = vd;
     s.damperCurrent = id;
     s.fallingChannelCurrent = ich;
-    s.switchCurrent = m.drain === 'switch' ? inflow : 0;
+    // The channel also takes the drain node's charge as Ron·ip moves the drain.
+    s.switchCurrent = m.drain === 'switch' ? inflow - p.drainNode.at(vd) * d[VD]! : 0;
     s.clampDiodeCurrent = iD;
     s.clampDiodeVoltage = vDiode;
     s.clampBranchCurrent = branch;

@@ -48,7 +48,7 @@ describe('validateScenario on the demo scenarios', () => {
     expect(scenario.transformer.magnetizingInductance).toBeCloseTo(60e-6, 15);
     expect(scenario.transformer.leakageInductance).toBeCloseTo(1.2e-6, 15);
     expect(scenario.switch.frequency).toBe(200e3);
-    expect(scenario.switch.drainCapacitance).toBeCloseTo(180e-12, 20);
+    expect(accepted(gateDrive()).scenario.switch.drainCapacitance).toBeCloseTo(400e-12, 20);
     expect(scenario.clamp?.resistance).toBe(3300);
     expect(scenario.switch.control).toEqual({ kind: 'peak-current', peakCurrent: 1.1, maxDutyCycle: 0.9 });
     expect(accepted(gateDrive()).scenario.switch.control).toEqual({ kind: 'fixed-duty', dutyCycle: 0.3 });
@@ -367,5 +367,59 @@ describe('validateScenario on the design block', () => {
     const issue = find(withDesign(design), path);
     expect(issue, path).toBeDefined();
     expect(issue!.message).toMatch(message);
+  });
+});
+
+describe('validateScenario: real parts at the drain', () => {
+  it('accepts a Coss curve with SI strings and reads it as [V, F] pairs', () => {
+    const result = accepted({ ...bias(), switch: { ...bias().switch, drainCapacitance: [[0, '1.1n'], [25, '250p'], [100, '60p'], [400, '28p']] } });
+    const curve = result.scenario.switch.drainCapacitance as ReadonlyArray<readonly [number, number]>;
+    expect(curve.map(([v]) => v)).toEqual([0, 25, 100, 400]);
+    [1.1e-9, 250e-12, 60e-12, 28e-12].forEach((c, i) => expect(curve[i]![1] / c).toBeCloseTo(1, 14));
+  });
+
+  it.each([
+    ['voltages not increasing', [[0, '1n'], [50, '200p'], [50, '100p']], 'switch.drainCapacitance[2][0]', 'strictly increasing'],
+    ['a curve not starting at 0 V', [[5, '1n'], [50, '200p']], 'switch.drainCapacitance[0][0]', 'start at 0 V'],
+    ['a capacitance that is not positive', [[0, '1n'], [50, 0]], 'switch.drainCapacitance[1][1]', 'greater than 0'],
+    ['a capacitance with the wrong unit', [[0, '1nH'], [50, '100p']], 'switch.drainCapacitance[0][1]', 'capacitance'],
+    ['a point that is not a pair', [[0, '1n'], [50]], 'switch.drainCapacitance[1]', '[V, C]'],
+  ])('refuses %s, naming the point', (_what, curve, path, fragment) => {
+    expectIssue(issuesAfter(bias(), (d) => { d.switch.drainCapacitance = curve; }), path, fragment);
+  });
+
+  it('refuses a curve of one point or of more than 64, naming the field', () => {
+    expectIssue(issuesAfter(bias(), (d) => { d.switch.drainCapacitance = [[0, '1n']]; }), 'switch.drainCapacitance', 'from 2 to 64 points', 'found 1 point');
+    const long = Array.from({ length: 65 }, (_, i) => [i, 1e-9]);
+    expectIssue(issuesAfter(bias(), (d) => { d.switch.drainCapacitance = long; }), 'switch.drainCapacitance', 'found 65 points');
+  });
+
+  it.each([
+    ['switch.turnOffDelay', (d: Doc) => { d.switch.turnOffDelay = '-10n'; }, '0 or more'],
+    ['switch.currentFallTime', (d: Doc) => { d.switch.currentFallTime = -1e-9; }, '0 or more'],
+    ['clamp.loopInductance', (d: Doc) => { d.clamp.loopInductance = '5nF'; }, 'H'],
+    ['clamp.diodeRecoveryTime', (d: Doc) => { d.clamp.diodeRecoveryTime = 0; }, 'greater than 0'],
+    ['clamp.diodeForwardRecoveryTime', (d: Doc) => { delete d.clamp.diodeForwardRecoveryTime; }, 'together'],
+    ['clamp.diodeForwardRecoveryVoltage', (d: Doc) => { d.clamp.diodeForwardRecoveryVoltage = 0.5; }, 'above clamp.diodeDrop'],
+    ['switch.avalancheVoltage', (d: Doc) => { d.switch.avalancheVoltage = 80; }, 'above Vin + VR'],
+    ['switch.currentFallTime', (d: Doc) => { d.switch.currentFallTime = '3u'; }, 'half the period'],
+  ])('refuses a bad %s with a message naming it', (path, mutate, fragment) => {
+    expectIssue(issuesAfter(bias(), mutate), path, fragment);
+  });
+
+  it('warns that forward recovery without a loop inductance assumes 1 nH', () => {
+    const doc = bias();
+    delete doc.clamp.loopInductance;
+    const result = accepted(doc);
+    expect(result.warnings.some((w) => w.path === 'clamp.loopInductance' && w.message.includes('1 nH'))).toBe(true);
+  });
+
+  it('fills the defaults of the optional part fields: ideal parts as before', () => {
+    const result = accepted(gateDrive());
+    expect(result.scenario.transformer.windingCapacitance).toBe(0);
+    expect(result.scenario.switch).toMatchObject({ turnOffDelay: 0, currentFallTime: 0 });
+    expect(result.scenario.switch.avalancheVoltage).toBeUndefined();
+    expect(result.scenario.clamp).toMatchObject({ loopInductance: 0, loopResistance: 0, diodeCapacitance: 0, diodeTransitTimeRatio: 0.1 });
+    expect(result.scenario.clamp!.diodeRecoveryTime).toBeUndefined();
   });
 });

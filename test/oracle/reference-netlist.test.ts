@@ -1,5 +1,5 @@
 // The reference model's own scenario reader (test/oracle/reference/netlist.ts) against the defaults
-// and field list of /work/real-parts-spec.md, and against plain arithmetic of SI prefixes.
+// and field list of the README's "The model, its assumptions and limits", and against plain arithmetic of SI prefixes.
 
 import { describe, expect, it } from 'vitest';
 import { readScenario, reflectedVolts } from './reference/netlist.js';

@@ -1,7 +1,7 @@
 // The clamp diode's stored charge: reverse recovery by the charge-control model of Lauritzen & Ma
 // (1991), with the stored charge qM, lifetime τ and transit time TM, and forward recovery after
 // Ma & Lauritzen (1993) as a conductivity-modulated series resistance. Parameters are derived from
-// datasheet numbers exactly as /work/real-parts-spec.md writes them.
+// datasheet numbers exactly as the README's "The model, its assumptions and limits" writes them.
 
 export interface ChargeControl {
   /** τ, s. */

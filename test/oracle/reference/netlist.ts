@@ -1,5 +1,5 @@
 // The reference model's own reader: a scenario object (parsed JSON as in scenarios/*.json, with the
-// optional real-parts fields of /work/real-parts-spec.md) becomes a plain netlist of SI numbers.
+// optional real-parts fields of the README's "The model, its assumptions and limits") becomes a plain netlist of SI numbers.
 // It shares nothing with the engine's Scenario type on purpose (that type is being rewritten); only
 // the SI-string parser is borrowed. Validation is minimal: a missing or malformed field throws with
 // its path, because a reference that silently guessed would not be a reference.
@@ -26,6 +26,8 @@ export interface ClampNetlist {
   readonly farads: number;
   readonly diodeDropVolts: number;
   readonly loopHenries: number;
+  /** In series with the loop inductance; unused without one. */
+  readonly loopOhms: number;
   readonly junctionFarads: number;
   /** Datasheet trr at IF = IR, s; undefined for an ideal diode. */
   readonly recoverySeconds: number | undefined;
@@ -148,6 +150,7 @@ export function readScenario(json: unknown): ReferenceNetlist {
       farads: required(clamp, 'capacitance', 'F', p),
       diodeDropVolts: withDefault(clamp, 'diodeDrop', 'V', p, 1.0),
       loopHenries: withDefault(clamp, 'loopInductance', 'H', p, 0),
+      loopOhms: withDefault(clamp, 'loopResistance', 'Ω', p, 0),
       junctionFarads: withDefault(clamp, 'diodeCapacitance', 'F', p, 0),
       recoverySeconds: optional(clamp, 'diodeRecoveryTime', 's', p),
       transitTimeRatio: withDefault(clamp, 'diodeTransitTimeRatio', '', p, 0.1),

@@ -1,6 +1,6 @@
 // Independent reference model of flyclamp's switching node with real parts: public entry point.
 //
-// It follows /work/real-parts-spec.md and shares no code with the engine (src/model, src/solver,
+// It follows the README's "The model, its assumptions and limits" and shares no code with the engine (src/model, src/solver,
 // src/simulation, src/analysis, src/study, src/design, odex); only parseSiNumber is borrowed to read
 // SI strings. Method: classic Runge–Kutta 4 with a fixed step (a fraction of the fastest ring and of
 // the shortest time constant), switching instants landed on exactly, device events located on a
@@ -50,7 +50,7 @@ import { locateRisingRoot } from './integrator.js';
 import { readScenario, reflectedVolts, type ReferenceNetlist } from './netlist.js';
 import {
   DEFAULT_STEP_SETTINGS, E_AVALANCHE, E_BODY, E_CHANNEL, E_CLAMP_DIODE, E_CLAMP_R, E_DAMPER_R, E_LOAD, E_OUTPUT_DIODE,
-  E_PRIMARY_R, E_SUPPLY, E_TURN_OFF, NodeAux, PHYSICAL_SIZE, Q_REVERSE, SwitchingNode, VC_INTEGRAL,
+  E_LOOP_R, E_PRIMARY_R, E_SUPPLY, E_TURN_OFF, NodeAux, PHYSICAL_SIZE, Q_REVERSE, SwitchingNode, VC_INTEGRAL,
   type DiscreteState, type PeriodOutcome, type PeriodRecorder, type StepSettings, type Variant,
 } from './switching-node.js';
 
@@ -121,6 +121,7 @@ export interface ReferenceEnergyBalance {
   bodyDiodeJoules: number;
   avalancheJoules: number;
   damperResistorJoules: number;
+  clampLoopResistanceJoules: number;
   storedChangeJoules: number;
   /** supply − (every loss + load + stored change), J. */
   mismatchJoules: number;
@@ -385,13 +386,14 @@ export function referenceRunNetlist(netlist: ReferenceNetlist, variant: Variant,
     bodyDiodeJoules: e[E_BODY]!,
     avalancheJoules: e[E_AVALANCHE]!,
     damperResistorJoules: e[E_DAMPER_R]!,
+    clampLoopResistanceJoules: e[E_LOOP_R]!,
     storedChangeJoules: o.storedEndJoules - o.storedStartJoules,
     mismatchJoules: 0,
     relativeMismatch: 0,
   };
   const accounted = balance.loadJoules + balance.outputDiodeJoules + balance.primaryResistanceJoules + balance.switchChannelJoules
     + balance.turnOffJoules + balance.turnOnJoules + balance.clampResistorJoules + balance.clampDiodeJoules + balance.bodyDiodeJoules
-    + balance.avalancheJoules + balance.damperResistorJoules + balance.storedChangeJoules;
+    + balance.avalancheJoules + balance.damperResistorJoules + balance.clampLoopResistanceJoules + balance.storedChangeJoules;
   balance.mismatchJoules = balance.supplyJoules - accounted;
   balance.relativeMismatch = Math.abs(balance.mismatchJoules) / Math.abs(balance.supplyJoules);
 

@@ -1,4 +1,4 @@
-// The switching node of /work/real-parts-spec.md as a hybrid system: a continuous state (currents,
+// The switching node of the README's "The model, its assumptions and limits" as a hybrid system: a continuous state (currents,
 // voltages, the diode's stored charge, and running integrals of every power term), a discrete state
 // (switch phase, which devices conduct) and the rising zero crossings that change it. Integration is
 // classic Runge–Kutta 4 with a fixed step chosen from the circuit's fastest natural period; every
@@ -21,8 +21,8 @@ export const PHYSICAL_SIZE = 8;
 // Running integrals over the period (J, or C and V·s), integrated by the same Runge–Kutta steps so
 // that the energy balance closes to the integration error.
 export const E_SUPPLY = 8, E_LOAD = 9, E_OUTPUT_DIODE = 10, E_PRIMARY_R = 11, E_CHANNEL = 12, E_TURN_OFF = 13,
-  E_CLAMP_R = 14, E_CLAMP_DIODE = 15, E_BODY = 16, E_AVALANCHE = 17, E_DAMPER_R = 18, Q_REVERSE = 19, VC_INTEGRAL = 20;
-export const STATE_SIZE = 21;
+  E_CLAMP_R = 14, E_CLAMP_DIODE = 15, E_BODY = 16, E_AVALANCHE = 17, E_DAMPER_R = 18, Q_REVERSE = 19, VC_INTEGRAL = 20, E_LOOP_R = 21;
+export const STATE_SIZE = 22;
 
 export type SwitchPhase = 'on' | 'delay' | 'fall' | 'off';
 /** switch: vd algebraic on the closed switch; clamped: Ls = 0 clamp conducting, vd = Vin + vc + Vf. */
@@ -118,6 +118,7 @@ export class SwitchingNode {
   readonly hasDamper: boolean;
   /** Effective clamp-loop inductance (1 nH stands in for 0 when forward recovery needs an inductor, as the engine does). */
   readonly loopHenries: number;
+  readonly loopOhms: number;
   readonly recovery: ChargeControl | undefined;
   readonly forward: ForwardRecovery | undefined;
   readonly counters: WorkCounters = { evaluations: 0, steps: 0, events: 0, periods: 0 };
@@ -194,6 +195,7 @@ export class SwitchingNode {
       : clamp.loopHenries === 0 && clamp.forwardRecovery !== undefined ? 1e-9 : clamp.loopHenries;
     const cj = clamp?.junctionFarads ?? 0;
     this.cjState = this.loopHenries > 0 ? cj : 0;
+    this.loopOhms = clamp !== undefined && this.loopHenries > 0 ? clamp.loopOhms : 0;
     const lumpedJunction = this.hasClamp && this.loopHenries === 0 ? cj : 0;
     this.capacitance = new DrainCapacitance(n.coss, n.windingFarads + lumpedJunction);
     this.rs = damper?.ohms ?? 1;
@@ -369,7 +371,7 @@ export class SwitchingNode {
     // Clamp diode.
     let iD = 0, vdiode = 0, dicl = 0, dvj = 0, dqM = 0, iDDot = Number.NaN;
     if (this.hasClamp) {
-      const reverse = vd - this.vin - vc;
+      const reverse = vd - this.vin - vc - (ls > 0 ? this.loopOhms * icl : 0);
       if (ls > 0) {
         switch (m.clampDiode) {
           case 'conducting': {
@@ -473,6 +475,7 @@ export class SwitchingNode {
     dx[E_DAMPER_R] = id * (vd - vs);
     dx[Q_REVERSE] = iD < 0 ? -iD : 0;
     dx[VC_INTEGRAL] = vc;
+    dx[E_LOOP_R] = ls > 0 ? this.loopOhms * icl * icl : 0;
 
     a.t = t; a.ip = ip; a.im = im; a.vd = vd; a.vdDot = vdDot; a.vc = vc; a.vcDot = vcDot; a.iN = iN; a.id = id;
     a.ich = ich; a.ibc = ibc; a.iD = iD; a.iDDot = iDDot; a.vdiode = vdiode; a.vm = vm; a.isec = isec;
