@@ -193,10 +193,11 @@ describe('real parts in settled runs, against closed forms and known directions'
   it.each<[string, Record<string, unknown>, VariantName]>([
     ['a Coss curve and winding capacitance', { transformer: { windingCapacitance: '15p' }, switch: { drainCapacitance: [[0, '600p'], [100, '150p'], [300, '80p']] } }, 'clamp'],
     ['a clamp loop', { clamp: { loopInductance: '10n', loopResistance: 0.3 } }, 'clamp'],
-    ['a clamp loop and junction capacitance', { clamp: { loopInductance: '10n', loopResistance: 0.3, diodeCapacitance: '10p' } }, 'clamp'],
+    // Loop and junction values chosen for a slow (60 ns) loop ring: a 2 ns one costs minutes here.
+    ['a clamp loop and junction capacitance', { clamp: { loopInductance: '100n', loopResistance: 2, diodeCapacitance: '50p' } }, 'clamp'],
     ['reverse recovery, no loop', { clamp: { diodeRecoveryTime: '300n' } }, 'clamp'],
-    ['reverse recovery in a loop', { clamp: { diodeRecoveryTime: '300n', loopInductance: '10n' } }, 'clamp'],
-    ['reverse recovery in a loop with junction capacitance', { clamp: { diodeRecoveryTime: '300n', loopInductance: '10n', loopResistance: 0.3, diodeCapacitance: '10p' } }, 'clamp'],
+    ['reverse recovery in a loop', { clamp: { diodeRecoveryTime: '300n', loopInductance: '30n', loopResistance: 0.5 } }, 'clamp'],
+    ['reverse recovery in a loop with junction capacitance', { clamp: { diodeRecoveryTime: '300n', loopInductance: '100n', loopResistance: 2, diodeCapacitance: '50p' } }, 'clamp'],
     ['forward recovery', { clamp: { loopInductance: '10n', diodeForwardRecoveryVoltage: 8, diodeForwardRecoveryTime: '60n' } }, 'clamp'],
     ['avalanche', { switch: { drainCapacitance: '100p', avalancheVoltage: 260 } }, 'bare'],
     ['a turn-off delay and current fall', { switch: { drainCapacitance: '100p', turnOffDelay: '100n', currentFallTime: '40n' } }, 'clamp'],

@@ -38,7 +38,7 @@ describe('reference netlist reader (spec: field list and defaults)', () => {
       clamp: { resistance: '10k', capacitance: '4.7n', diodeForwardRecoveryVoltage: 5, diodeForwardRecoveryTime: '30n' },
     });
     expect(n.clamp).toEqual({
-      ohms: 10e3, farads: 4.7e-9, diodeDropVolts: 1.0, loopHenries: 0, junctionFarads: 0, recoverySeconds: undefined,
+      ohms: 10e3, farads: 4.7e-9, diodeDropVolts: 1.0, loopHenries: 0, loopOhms: 0, junctionFarads: 0, recoverySeconds: undefined,
       transitTimeRatio: 0.1, forwardRecovery: { peakVolts: 5, recoverySeconds: 30e-9, rampAmpsPerSecond: 1e8 },
     });
   });

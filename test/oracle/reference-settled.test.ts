@@ -12,7 +12,20 @@ import { availableVariants, referenceRun, type ReferenceMetrics, type ReferenceR
 
 const SCENARIO_DIR = fileURLToPath(new URL('../../scenarios/', import.meta.url));
 const demos = readdirSync(SCENARIO_DIR).filter((f) => f.endsWith('.json')).sort();
-const readDemo = (file: string): unknown => JSON.parse(readFileSync(`${SCENARIO_DIR}${file}`, 'utf8'));
+/**
+ * A demo with its real parts taken out (constant Coss, the curve's last value; ideal clamp diode, no
+ * loop, no avalanche, delay or fall): what this file's exact consequences of the ideal equations and
+ * its step-halving runs need, at a cost a test can pay. The real parts have cases of their own below.
+ */
+const readDemo = (file: string): unknown => {
+  const json = JSON.parse(readFileSync(`${SCENARIO_DIR}${file}`, 'utf8')) as Record<string, Record<string, unknown>>;
+  const sw = json.switch!;
+  if (Array.isArray(sw.drainCapacitance)) sw.drainCapacitance = (sw.drainCapacitance.at(-1) as unknown[])[1];
+  for (const key of ['avalancheVoltage', 'turnOffDelay', 'currentFallTime']) delete sw[key];
+  delete json.transformer!.windingCapacitance;
+  if (json.clamp) for (const key of Object.keys(json.clamp)) if (!['resistance', 'capacitance', 'diodeDrop'].includes(key)) delete json.clamp[key];
+  return json;
+};
 
 // Energy balance closes to the Runge–Kutta error of the power integrals; 1e-6 is the brief's bound
 // (the runs give 1e-8 or better, so it is not slack that could hide a missing term: a missing loss
@@ -20,7 +33,7 @@ const readDemo = (file: string): unknown => JSON.parse(readFileSync(`${SCENARIO_
 const ENERGY_BOUND = 1e-6;
 const SETTLE_BOUND = 1e-9;
 
-describe('reference model: demo scenarios settle and their energy balance closes (conservation of energy)', () => {
+describe('reference model: demo scenarios with ideal parts settle and their energy balance closes (conservation of energy)', () => {
   const runs = new Map<string, ReferenceResult>();
   beforeAll(() => {
     for (const file of demos) {
