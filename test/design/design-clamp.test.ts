@@ -32,6 +32,18 @@ describe('handDesign(scenario) against worked check values', () => {
     expect(h.equations.find((e) => e.quantity === 'clamp power')!.value).toBeCloseTo(1.5, 9);
   });
 
+  it('with a Coss curve, the damper formulas take the node capacitance at Vin + VR off the curve (the single constant that errs least on the peak), winding capacitance included; the verification keeps the curve', () => {
+    // Curve points chosen so that C(200 V) is exactly the 150 pF point: Vin + VR = 100 + 100 V.
+    const curved = labScenario({ switch: { voltageRating: 312.5, drainCapacitance: [[0, '900p'], [200, '150p'], [400, '60p']] }, transformer: { windingCapacitance: '10p' }, design: { leakageTolerance: 0 } });
+    const h = handDesign(curved);
+    expect(h.drainCapacitance).toBeCloseTo(160e-12, 20);
+    // Damper capacitor = ratio × that constant (Todd, SEM-900): 4 × 160 pF.
+    expect(h.equations.find((e) => e.quantity === 'damper capacitor (exact)')!.value).toBeCloseTo(640e-12, 20);
+    const corner = scenarioAtCorner(curved, h, { supplyVoltage: 100, leakageInductance: 10e-6 } as Parameters<typeof scenarioAtCorner>[2], { r: 15e3, c: 100e-9, rs: 300, cs: 640e-12 });
+    expect(corner.switch.drainCapacitance).toEqual(curved.switch.drainCapacitance);
+    expect(corner.transformer.windingCapacitance).toBe(10e-12);
+  });
+
   it('rounds the resistor down and the capacitor up (both keep the drain lower)', () => {
     const h = handDesign(worked({ drainDerating: 0.81 }));
     expect(h.resistance).toBeLessThanOrEqual(h.resistanceExact);
