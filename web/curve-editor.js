@@ -312,7 +312,7 @@ export function createCurveEditor(options) {
     /** The box and input for an issue path of this field, or null when it is not this field's. */
     target(issuePath) {
       if (issuePath === path) return { box: error, input: mode() === 'constant' ? constantInput : rows.querySelector('input') };
-      const m = /^(.*)\[(\d+)\](?:\[([01])\])?$/.exec(issuePath);
+      const m = /^([^[]*)\[(\d+)\](?:\[([01])\])?$/.exec(issuePath);
       if (!m || m[1] !== path) return null;
       const row = rows.children[Number(m[2])];
       if (!row || mode() !== 'curve') return { box: error, input: null };
