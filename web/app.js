@@ -221,7 +221,7 @@ function makeCurveField(field) {
     formatForForm: siForForm, formatSi: fmtSi, unitWords: UNIT_WORDS,
     plotLayout: BASE_LAYOUT, axis: AXIS,
     context: curveContext,
-    onEdit: () => { clearFieldError(field.path); markEdited(); updateStudyPreview(); },
+    onEdit: () => { clearFieldError(field.path); markEdited(); refreshStudyFields(); },
   });
   return curveEditor.element;
 }
@@ -1500,7 +1500,9 @@ function studyFields() {
     if (group.optionalBlock && !(/** @type {HTMLInputElement | null} */ (document.getElementById(`use-${group.key}`))?.checked)) continue;
     for (const f of group.fields) {
       if (!f.path || f.choices || (f.when && f.when !== kind)) continue;
-      out.push({ group: STUDY_GROUPS[group.key], path: f.path, label: f.label, unit: f.unit });
+      // A curve is varied as a whole (the server scales every point); the value read is C at 0 V.
+      const label = f.curve && curveEditor?.mode() === 'curve' ? `${f.label}, whole curve (value at 0 V)` : f.label;
+      out.push({ group: STUDY_GROUPS[group.key], path: f.path, label, unit: f.unit });
     }
   }
   return out;
