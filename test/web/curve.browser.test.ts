@@ -343,3 +343,89 @@ describe('the drain capacitance curve', () => {
     expect(session.pageErrors).toEqual([]);
   }, TEST_TIMEOUT_MS);
 });
+
+describe('the form against the README', () => {
+  // The page keeps its own list of scenario fields (web/app.js, GROUPS); the README's tables are
+  // the documented format. Every documented field has an input with the documented unit and
+  // default, and the form has no field the format lacks.
+  interface Documented { path: string; unit?: string; fallback?: string }
+  const SPOKEN: Record<string, string> = { V: 'volts', A: 'amperes', H: 'henries', F: 'farads', Hz: 'hertz', s: 'seconds', 'Ω': 'ohms', 'A/s': 'amperes per second' };
+
+  function tableRows(text: string, from: string, to: string): string[][] {
+    const start = text.indexOf(from), end = text.indexOf(to, start);
+    expect(start).toBeGreaterThan(-1);
+    return text.slice(start, end).split('\n').filter((l) => l.startsWith('| `'))
+      .map((l) => l.slice(1, -1).split(' | ').map((c) => c.trim()));
+  }
+
+  function paths(cell: string): string[] {
+    const out: string[] = [];
+    for (const [, token] of cell.matchAll(/`([^`]+)`/g)) {
+      // ".frequencyWithAddedCapacitor" continues the block of the path before it.
+      out.push(token!.startsWith('.') ? `${out[out.length - 1]!.replace(/\.[^.]+$/, '')}${token}` : token!);
+    }
+    return out;
+  }
+
+  async function documented(): Promise<Documented[]> {
+    const readme = await readFile(join(root, 'README.md'), 'utf8');
+    const out: Documented[] = [];
+    for (const [fields, unit, notes] of tableRows(readme, '## Scenario files', '\nVariants:')) {
+      const ps = paths(fields!);
+      const units = ps.length > 1 ? unit!.split(', ') : [unit!.replace(/, or points$/, '')];
+      // "optional, 0.9" gives a default; "optional:" or "optional, together" means absent; in a row
+      // of several fields, "diode drop optional, 1.0 V" gives one of them its default.
+      const fallback = /^optional, (-?[\d.]+(?:e-?\d+)?)\b/.exec(notes ?? '')?.[1];
+      const named = /\(([a-z][a-z ]*?) optional, (-?[\d.]+)/.exec(notes ?? '');
+      const words = (path: string): string => path.split('.').pop()!.replace(/([A-Z])/g, ' $1').toLowerCase();
+      ps.forEach((path, i) => {
+        const value = fallback ?? (named && words(path) === named[1] ? named[2] : undefined);
+        out.push({ path, unit: (units[i] ?? units[0])!, ...(value !== undefined ? { fallback: value } : {}) });
+      });
+    }
+    for (const [fields, defaults] of tableRows(readme, 'The `design` block', '### `flyclamp sweep')) {
+      const ps = paths(fields!);
+      const values = defaults === '—' ? [] : defaults!.replace(/`/g, '').split(', ');
+      ps.forEach((path, i) => out.push({ path, ...(values.length ? { fallback: values[i] ?? values[0] } : {}) }));
+    }
+    return out;
+  }
+
+  it('has an input for every documented field, with its unit and default, and no other', async () => {
+    const fields = await documented();
+    // The tables hold every block of the format (a parse that found little would prove nothing).
+    expect(fields.length).toBeGreaterThan(40);
+    expect(fields.map((f) => f.path)).toEqual(expect.arrayContaining(['switch.drainCapacitance', 'clamp.diodeForwardRecoveryRate', 'design.measuredRing.addedCapacitance']));
+    const inForm = await page.evaluate(() => [...document.querySelectorAll('#params [data-path]')]
+      .map((e) => (e as HTMLElement).dataset.path!).filter((p) => !p.includes('[')));
+    expect([...inForm].sort()).toEqual(fields.map((f) => f.path).sort());
+
+    for (const f of fields) {
+      const shown = await page.evaluate((path) => {
+        const input = document.querySelector(`#params [data-path="${path}"]`) as HTMLInputElement | HTMLSelectElement;
+        return {
+          unit: input.closest('.entry')?.querySelector('.unit')?.textContent ?? null,
+          placeholder: input instanceof HTMLInputElement ? input.placeholder : input.options[0]!.textContent ?? '',
+          label: (input as HTMLInputElement).labels?.[0]?.textContent ?? '',
+        };
+      }, f.path);
+      if (f.unit !== undefined && f.path !== 'name') {
+        const expected = f.unit === '—' || f.unit === 'Np/Ns' ? '—' : f.unit;
+        expect(shown.unit, f.path).toBe(expected);
+        // The label speaks the unit, since the visible one after the input is not part of it.
+        if (SPOKEN[f.unit]) expect(shown.label, f.path).toContain(`in ${SPOKEN[f.unit]}`);
+      }
+      if (f.fallback === undefined) {
+        expect(shown.placeholder, f.path).not.toMatch(/^default/);
+      } else if (f.fallback === 'supply.voltage') {
+        expect(shown.placeholder, f.path).toBe('default: supply');
+      } else if (/^E\d+$/.test(f.fallback)) {
+        expect(shown.placeholder, f.path).toBe(`default (${f.fallback})`);
+      } else {
+        const m = /^default (\S+)$/.exec(shown.placeholder);
+        expect(m, `${f.path} placeholder "${shown.placeholder}"`).not.toBeNull();
+        expect(Number(m![1]), f.path).toBe(Number(f.fallback));
+      }
+    }
+  }, TEST_TIMEOUT_MS);
+});
