@@ -2,7 +2,8 @@
 // a table; below them a design panel (/api/design) and a study panel (/api/sweep).
 // Plain ES module, no build step; Plotly comes from /vendor/plotly.min.js as a global.
 
-import { createCurveEditor, capacitanceAt } from './curve-editor.js';
+import { createCurveEditor } from './curve-editor.js';
+import { parseSi, UNIT_SPELLINGS } from './si-parse.js';
 
 const Plotly = /** @type {any} */ (window).Plotly;
 
@@ -218,7 +219,7 @@ let curveEditor = /** @type {null | ReturnType<typeof createCurveEditor>} */ (nu
 function makeCurveField(field) {
   curveEditor = createCurveEditor({
     path: field.path, label: field.label, Plotly, parseSi,
-    formatForForm: siForForm, formatSi: fmtSi, unitWords: UNIT_WORDS,
+    formatForForm: siForForm, unitWords: UNIT_WORDS,
     plotLayout: BASE_LAYOUT, axis: AXIS,
     context: curveContext,
     onEdit: () => { clearFieldError(field.path); markEdited(); refreshStudyFields(); },
@@ -1030,32 +1031,7 @@ const sweepPlot = $('#sweep-plot');
 let panelsReady = false;
 
 const SI_SCALES = [[1e9, 'G'], [1e6, 'M'], [1e3, 'k'], [1, ''], [1e-3, 'm'], [1e-6, 'µ'], [1e-9, 'n'], [1e-12, 'p'], [1e-15, 'f']];
-const PREFIX_EXPONENT = { f: -15, p: -12, n: -9, u: -6, 'µ': -6, 'μ': -6, m: -3, k: 3, M: 6, G: 9 };
-// A copy of src/circuit/si-number.ts's table: keep the two alike.
-const UNIT_SPELLINGS = { V: ['V'], A: ['A'], H: ['H'], F: ['F'], Hz: ['Hz'], s: ['s'], W: ['W'], 'A/s': ['A/s'], 'Ω': ['Ω', 'ohm', 'Ohm', 'R'] };
 const SI_UNITS = Object.keys(UNIT_SPELLINGS);
-
-/**
- * A value as the server reads it: a number, optionally an SI prefix, optionally one of `units`
- * (undefined when it would not parse). Used only to preview and to label; the server decides.
- */
-function parseSi(text, units) {
-  const m = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$/.exec(String(text));
-  if (!m) return undefined;
-  const spellings = units.flatMap((u) => UNIT_SPELLINGS[u] ?? []);
-  const isUnit = (suffix) => suffix === '' || spellings.includes(suffix);
-  let exponent;
-  if (isUnit(m[2])) exponent = 0;
-  else {
-    for (const [prefix, e] of Object.entries(PREFIX_EXPONENT)) {
-      if (m[2].startsWith(prefix) && isUnit(m[2].slice(prefix.length))) { exponent = e; break; }
-    }
-  }
-  if (exponent === undefined) return undefined;
-  const mantissa = Number(m[1]);
-  const value = exponent < 0 ? mantissa / 10 ** -exponent : mantissa * 10 ** exponent;
-  return Number.isFinite(value) ? value : undefined;
-}
 
 /** A value as an engineer types it into the form: "43k", "3.9n", "330p", "560". */
 function siForForm(value) {

@@ -29,7 +29,6 @@ export function capacitanceAt(points, v) {
  *   path: string, label: string, Plotly: any,
  *   parseSi: (text: string, units: string[]) => number | undefined,
  *   formatForForm: (value: number) => string,
- *   formatSi: (value: number, unit: string, digits?: number) => string,
  *   unitWords: Record<string, string>,
  *   plotLayout: object, axis: object,
  *   context: () => { plateau?: number, rating?: number, avalanche?: number },
