@@ -122,7 +122,7 @@ const state = {
   /** Name of the opened file without .json, for the saved copy's name. */
   fileBase: '',
   /** The last successful design: the scenario sent and the answer. */
-  design: /** @type {null | { scenario: object, data: any }} */ (null),
+  design: /** @type {null | { scenario: any, data: any }} */ (null),
   /** The last successful study: the request, the answer and the form's values it referred to. */
   study: /** @type {null | { request: any, data: any, nominals: Record<string, number | undefined>, seconds: string }} */ (null),
 };
@@ -200,17 +200,18 @@ function makeHeading(text) {
   return h;
 }
 
-/** Spoken units, so a screen reader announces "in farads" rather than a bare letter. */
+/** Units in words, so a screen reader announces "in farads" rather than a bare letter. */
 const UNIT_WORDS = {
   V: 'volts', A: 'amperes', H: 'henries', F: 'farads', Hz: 'hertz', s: 'seconds', W: 'watts', 'Ω': 'ohms',
-  'A/s': 'amperes per second', '°C': 'degrees Celsius', '0–1': 'a fraction from 0 to 1', '×': 'a multiple',
+  'A/s': 'amperes per second', '°C': 'degrees Celsius',
 };
+const RATIO_WORDS = { '': 'a plain number', '0–1': 'a fraction from 0 to 1', '×': 'a multiple' };
 
-/** The unit as part of the label's accessible name; the visible unit sits after the input. */
+/** The unit as part of the label's accessible name; the visible unit after the input is hidden from it. */
 function spokenUnit(unit) {
   const span = document.createElement('span');
   span.className = 'sr-only';
-  span.textContent = unit ? `, in ${UNIT_WORDS[unit] ?? unit}` : ', a plain number';
+  span.textContent = UNIT_WORDS[unit] ? `, in ${UNIT_WORDS[unit]}` : `, ${RATIO_WORDS[unit] ?? unit}`;
   return span;
 }
 
@@ -253,7 +254,6 @@ function makeField(field) {
   }
   const entry = document.createElement('div');
   entry.className = field.text ? 'entry entry-text' : 'entry';
-  // The visible unit repeats the label's spoken one.
   const input = field.choices ? makeChoices(field) : document.createElement('input');
   if (!field.choices) input.type = 'text';
   input.id = id;
@@ -270,6 +270,7 @@ function makeField(field) {
     const unit = document.createElement('span');
     unit.className = 'unit';
     unit.textContent = field.unit || '—';
+    // The label already says it in words; read once, not twice.
     unit.setAttribute('aria-hidden', 'true');
     if (!field.unit) unit.title = 'a plain number, no unit';
     entry.append(unit);
@@ -721,7 +722,7 @@ function drawDrain(result, window_) {
       tag(report.voltageRating, `rating ${fmtNumber(report.voltageRating)} V`, RATING_COLOUR, 2),
       tag(report.deratedLimit, `derated limit ${fmtNumber(report.deratedLimit)} V (${fmtNumber(100 * report.deratedLimit / report.voltageRating, 3)} %)`, DERATED_COLOUR, 2),
       tag(plateau, `Vin + VR ${fmtNumber(plateau)} V`, '#6f6757', -2),
-      ...(hasAvalanche ? [{ ...tag(avalanche, `avalanche ${fmtNumber(avalanche)} V: the drain is held here`, AVALANCHE_COLOUR, 2) }] : []),
+      ...(hasAvalanche ? [tag(avalanche, `avalanche ${fmtNumber(avalanche)} V: the drain is held here`, AVALANCHE_COLOUR, 2)] : []),
     ],
   };
   Plotly.react(drainPlot, data, layout, PLOT_CONFIG);
@@ -1413,6 +1414,10 @@ function drawDesignPlot(data, zoomed) {
     level(0, end, derated, `derated limit ${fmtNumber(derated)} V`, 'limit:derated', DERATED_COLOUR, 'dashdot', 1.4),
     level(0, end, plateau, `Vin + VR ${fmtNumber(plateau)} V`, 'ref:plateau', '#8c8372', 'dot', 1),
   );
+  // The worst case breaks down at the same voltage as the scenario: the bare trace flattens there.
+  const avalanche = parseSi(String(state.design?.scenario.switch?.avalancheVoltage ?? ''), ['V']);
+  const hasAvalanche = Number.isFinite(avalanche) && avalanche > 0;
+  if (hasAvalanche) traces.push(level(0, end, avalanche, `avalanche ${fmtNumber(avalanche)} V`, 'limit:avalanche', AVALANCHE_COLOUR, 'longdash', 1.4));
   const window_ = zoomed ? designTurnOffWindow(data) : null;
   const layout = {
     ...BASE_LAYOUT,
@@ -1424,6 +1429,7 @@ function drawDesignPlot(data, zoomed) {
       levelTag(rating, `rating ${fmtNumber(rating)} V`, RATING_COLOUR, 2),
       levelTag(derated, `derated limit ${fmtNumber(derated)} V`, DERATED_COLOUR, 2),
       levelTag(plateau, `Vin,max + VR ${fmtNumber(plateau)} V`, '#6f6757', -2),
+      ...(hasAvalanche ? [levelTag(avalanche, `avalanche ${fmtNumber(avalanche)} V`, AVALANCHE_COLOUR, 2)] : []),
     ],
   };
   Plotly.react(designPlot, traces, layout, PLOT_CONFIG);
