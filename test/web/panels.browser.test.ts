@@ -178,6 +178,10 @@ describe('the design panel', () => {
     for (const t of traces) expect([t.type, t.mode]).toEqual(['scatter', 'lines']);
     for (const t of variants) expect(t.x.length).toBeGreaterThan(100);
     expect(traces.map((t) => t.meta)).toEqual(expect.arrayContaining(['limit:rating', 'limit:derated']));
+    // The scenario's breakdown voltage as a level: the worst case breaks down at the same voltage.
+    const scenario = JSON.parse(await readFile(join(root, 'scenarios', `${SCENARIO}.json`), 'utf8')) as { switch: { avalancheVoltage: number | string } };
+    const avalancheLevel = traces.find((t) => t.meta === 'limit:avalanche');
+    expect(avalancheLevel?.y).toEqual([si(String(scenario.switch.avalancheVoltage), 'V'), si(String(scenario.switch.avalancheVoltage), 'V')]);
     // The plotted worst-case peaks are the verified ones (the display reduction keeps each column's extremes).
     for (const v of VARIANTS) {
       const table = await dataValue(`#design-verification tr[data-corner="worstCase"] td[data-metric="${v}"]`);
