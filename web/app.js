@@ -2,6 +2,9 @@
 // a table; below them a design panel (/api/design) and a study panel (/api/sweep).
 // Plain ES module, no build step; Plotly comes from /vendor/plotly.min.js as a global.
 
+import { createCurveEditor } from './curve-editor.js';
+import { parseSi, UNIT_SPELLINGS } from './si-parse.js';
+
 const Plotly = /** @type {any} */ (window).Plotly;
 
 /**
@@ -18,6 +21,7 @@ const GROUPS = [
     { path: 'transformer.leakageInductance', label: 'Leakage inductance, primary side', unit: 'H' },
     { path: 'transformer.turnsRatio', label: 'Turns ratio Np : Ns', unit: '' },
     { path: 'transformer.primaryResistance', label: 'Primary winding resistance', unit: 'Ω', fallback: '0' },
+    { path: 'transformer.windingCapacitance', label: 'Winding capacitance across the primary', unit: 'F', fallback: '0' },
   ] },
   { key: 'output', title: 'Output', fields: [
     { path: 'output.voltage', label: 'Regulated output voltage', unit: 'V' },
@@ -29,15 +33,28 @@ const GROUPS = [
     { path: 'switch.peakCurrent', label: 'Primary current at turn-off', unit: 'A', when: 'peak-current' },
     { path: 'switch.maxDutyCycle', label: 'Maximum duty cycle', unit: '0–1', fallback: '0.9', when: 'peak-current' },
     { path: 'switch.dutyCycle', label: 'Duty cycle', unit: '0–1', when: 'fixed-duty' },
-    { path: 'switch.drainCapacitance', label: 'Drain–source capacitance', unit: 'F' },
+    { path: 'switch.drainCapacitance', label: 'Drain–source capacitance', unit: 'F', curve: true },
     { path: 'switch.onResistance', label: 'On-resistance', unit: 'Ω' },
     { path: 'switch.bodyDiodeDrop', label: 'Body diode forward drop', unit: 'V', fallback: '0.7' },
     { path: 'switch.voltageRating', label: 'Rated drain–source voltage', unit: 'V' },
+    { heading: 'Real parts (optional)' },
+    { path: 'switch.avalancheVoltage', label: 'Breakdown (avalanche) voltage', unit: 'V', absent: 'none: no avalanche' },
+    { path: 'switch.turnOffDelay', label: 'Delay from current limit to switch opening', unit: 's', fallback: '0' },
+    { path: 'switch.currentFallTime', label: 'Drain current fall time at turn-off', unit: 's', fallback: '0' },
   ] },
   { key: 'clamp', title: 'Fit an RCD clamp', optionalBlock: true, note: 'diode from the drain into C ∥ R, returned to the input rail', fields: [
     { path: 'clamp.resistance', label: 'Clamp resistor', unit: 'Ω' },
     { path: 'clamp.capacitance', label: 'Clamp capacitor', unit: 'F' },
     { path: 'clamp.diodeDrop', label: 'Clamp diode forward drop', unit: 'V', fallback: '1.0' },
+    { heading: 'Real parts (optional)' },
+    { path: 'clamp.loopInductance', label: 'Stray inductance of the clamp loop', unit: 'H', fallback: '0' },
+    { path: 'clamp.loopResistance', label: 'Clamp loop resistance (ESR, traces)', unit: 'Ω', fallback: '0' },
+    { path: 'clamp.diodeCapacitance', label: 'Clamp diode junction capacitance', unit: 'F', fallback: '0' },
+    { path: 'clamp.diodeRecoveryTime', label: 'Clamp diode reverse recovery time trr', unit: 's', absent: 'none: ideal diode' },
+    { path: 'clamp.diodeTransitTimeRatio', label: 'Recovery model transit-time ratio TM/τ', unit: '', fallback: '0.1' },
+    { path: 'clamp.diodeForwardRecoveryVoltage', label: 'Forward recovery peak voltage VFP (with tfr)', unit: 'V', absent: 'none' },
+    { path: 'clamp.diodeForwardRecoveryTime', label: 'Forward recovery time tfr (with VFP)', unit: 's', absent: 'none' },
+    { path: 'clamp.diodeForwardRecoveryRate', label: 'di/dt of the VFP and tfr test', unit: 'A/s', fallback: '1e8' },
   ] },
   { key: 'damper', title: 'Fit an RC damper', optionalBlock: true, note: 'series R and C from the drain to ground', fields: [
     { path: 'damper.resistance', label: 'Damper resistor', unit: 'Ω' },
@@ -73,6 +90,7 @@ const VARIANTS = ['bare', 'clamp', 'damped'];
 const COLOURS = { bare: '#c4522a', clamp: '#3b4fa8', damped: '#13897a' };
 const RATING_COLOUR = '#9b1b30';
 const DERATED_COLOUR = '#a87000';
+const AVALANCHE_COLOUR = '#4a3b52';
 const US = 1e6;
 
 const $ = (sel) => /** @type {HTMLElement} */ (document.querySelector(sel));
@@ -95,7 +113,7 @@ const state = {
   abort: /** @type {AbortController | null} */ (null),
   runCount: 0,
   /** The last successful whole-cycle run: what the plots, the table and the zoom refer to. */
-  last: /** @type {null | { scenario: object, result: any, label: string }} */ (null),
+  last: /** @type {null | { scenario: object, result: any, label: string, avalanche?: number }} */ (null),
   sourceLabel: '',
   editedSinceRun: false,
   /** Whether the shown results are older than the last attempt (which failed). */
@@ -104,7 +122,7 @@ const state = {
   /** Name of the opened file without .json, for the saved copy's name. */
   fileBase: '',
   /** The last successful design: the scenario sent and the answer. */
-  design: /** @type {null | { scenario: object, data: any }} */ (null),
+  design: /** @type {null | { scenario: any, data: any }} */ (null),
   /** The last successful study: the request, the answer and the form's values it referred to. */
   study: /** @type {null | { request: any, data: any, nominals: Record<string, number | undefined>, seconds: string }} */ (null),
 };
@@ -158,7 +176,9 @@ function buildForm() {
         set.append(note);
       }
     }
-    for (const field of group.fields) body.append(field.control ? makeControlChoice() : field.heading ? makeHeading(field.heading) : makeField(field));
+    for (const field of group.fields) {
+      body.append(field.control ? makeControlChoice() : field.heading ? makeHeading(field.heading) : field.curve ? makeCurveField(field) : makeField(field));
+    }
     form.append(set);
   }
   form.addEventListener('input', (event) => {
@@ -166,6 +186,8 @@ function buildForm() {
     if (target.dataset.path) clearFieldError(target.dataset.path);
     markEdited();
     updateStudyPreview();
+    // The C(v) plot marks Vin + VR and reaches the rating; both come from other fields.
+    curveEditor?.redraw();
   });
   syncBlocks();
   syncControl();
@@ -178,6 +200,42 @@ function makeHeading(text) {
   return h;
 }
 
+/** Units in words, so a screen reader announces "in farads" rather than a bare letter. */
+const UNIT_WORDS = {
+  V: 'volts', A: 'amperes', H: 'henries', F: 'farads', Hz: 'hertz', s: 'seconds', W: 'watts', 'Ω': 'ohms',
+  'A/s': 'amperes per second', '°C': 'degrees Celsius',
+};
+const RATIO_WORDS = { '': 'a plain number', '0–1': 'a fraction from 0 to 1', '×': 'a multiple' };
+
+/** The unit as part of the label's accessible name; the visible unit after the input is hidden from it. */
+function spokenUnit(unit) {
+  const span = document.createElement('span');
+  span.className = 'sr-only';
+  span.textContent = UNIT_WORDS[unit] ? `, in ${UNIT_WORDS[unit]}` : `, ${RATIO_WORDS[unit] ?? unit}`;
+  return span;
+}
+
+let curveEditor = /** @type {null | ReturnType<typeof createCurveEditor>} */ (null);
+
+function makeCurveField(field) {
+  curveEditor = createCurveEditor({
+    path: field.path, label: field.label, Plotly, parseSi,
+    formatForForm: siForForm, unitWords: UNIT_WORDS,
+    plotLayout: BASE_LAYOUT, axis: AXIS,
+    context: curveContext,
+    onEdit: () => { clearFieldError(field.path); markEdited(); refreshStudyFields(); },
+  });
+  return curveEditor.element;
+}
+
+/** What the C(v) plot marks: Vin + VR and the rating and breakdown voltage, when the form has them. */
+function curveContext() {
+  const n = (path, fallback) => { const v = formNumber(path); return v === undefined ? fallback : v; };
+  const vin = n('supply.voltage'), ratio = n('transformer.turnsRatio'), vo = n('output.voltage'), vf = n('output.diodeDrop', 0);
+  const plateau = [vin, ratio, vo, vf].every(Number.isFinite) ? vin + ratio * (vo + vf) : undefined;
+  return { plateau, rating: n('switch.voltageRating'), avalanche: n('switch.avalancheVoltage') };
+}
+
 function makeField(field) {
   const wrap = document.createElement('div');
   wrap.className = 'field';
@@ -187,7 +245,8 @@ function makeField(field) {
   const label = document.createElement('label');
   label.htmlFor = id;
   label.textContent = field.label;
-  if (field.fallback !== undefined) {
+  if (!field.text && !field.choices) label.append(spokenUnit(field.unit));
+  if (field.fallback !== undefined || field.absent !== undefined) {
     const opt = document.createElement('span');
     opt.className = 'optional';
     opt.textContent = 'optional';
@@ -205,11 +264,14 @@ function makeField(field) {
   if (field.fallback !== undefined && !field.choices) {
     input.placeholder = field.fallback === 'supply' ? 'default: supply' : `default ${field.fallback}`;
   }
+  if (field.absent !== undefined) input.placeholder = field.absent;
   entry.append(input);
   if (!field.text && !field.choices) {
     const unit = document.createElement('span');
     unit.className = 'unit';
     unit.textContent = field.unit || '—';
+    // The label already says it in words; read once, not twice.
+    unit.setAttribute('aria-hidden', 'true');
     if (!field.unit) unit.title = 'a plain number, no unit';
     entry.append(unit);
   }
@@ -321,6 +383,7 @@ function fillForm(raw) {
   for (const group of GROUPS) {
     for (const field of group.fields) {
       if (!field.path) continue;
+      if (field.curve) { curveEditor.fill(getPath(raw, field.path)); continue; }
       const text = asText(getPath(raw, field.path));
       if (field.choices) setChoice(inputFor(field.path), text);
       else inputFor(field.path).value = text;
@@ -369,6 +432,11 @@ function readForm({ forFile = false } = {}) {
     const block = {};
     for (const field of group.fields) {
       if (!field.path || (field.when && field.when !== kind)) continue;
+      if (field.curve) {
+        const curve = curveEditor.read(value);
+        if (curve !== undefined) block[field.path.split('.')[1]] = curve;
+        continue;
+      }
       const text = inputFor(field.path).value;
       if (text.trim() === '') continue;
       // Nested blocks (design.measuredRing) appear only when one of their fields is filled in.
@@ -393,6 +461,8 @@ function clearFieldError(path) {
 
 function clearFieldErrors() {
   for (const box of form.querySelectorAll('.field-error')) clearFieldError(/** @type {HTMLElement} */ (box).dataset.for);
+  // Curve points share one box per row, so their inputs are not found by the box's path.
+  for (const input of form.querySelectorAll('[aria-invalid]')) input.removeAttribute('aria-invalid');
 }
 
 function clearErrors() {
@@ -433,13 +503,14 @@ function showIssues(issues, showRest = showGeneral) {
     // fixed duty is chosen and that input is hidden; show it where the engineer is looking.
     const controlField = SWITCH_FIELDS.find((f) => f.path === path && f.when);
     if (controlField && controlField.when !== kind) path = kind === 'fixed-duty' ? 'switch.dutyCycle' : 'switch.peakCurrent';
-    const box = form.querySelector(`.field-error[data-for="${path}"]`);
+    const curve = curveEditor?.target(path);
+    const box = curve ? curve.box : form.querySelector(`.field-error[data-for="${CSS.escape(path)}"]`);
     if (!box) { rest.push(issue); continue; }
     const p = document.createElement('p');
     p.textContent = issue.message;
     box.append(p);
     /** @type {HTMLElement} */ (box).hidden = false;
-    inputFor(path)?.setAttribute('aria-invalid', 'true');
+    (curve ? curve.input : inputFor(path))?.setAttribute('aria-invalid', 'true');
     const details = box.closest('details');
     if (details) details.open = true;
   }
@@ -447,9 +518,16 @@ function showIssues(issues, showRest = showGeneral) {
   if (first) /** @type {HTMLElement} */ (first).scrollIntoView({ block: 'center', behavior: 'smooth' });
   if (rest.length > 0) showRest(rest);
   else {
-    const named = [...new Set(issues.map((i) => formField(i.path)?.label ?? i.path))];
+    const named = [...new Set(issues.map((i) => formField(i.path)?.label ?? curvePointLabel(i.path) ?? i.path))];
     showRest([`The server could not use the design: ${issues.length === 1 ? 'one field needs' : `${issues.length} fields need`} attention (marked in the form: ${named.join('; ')}).`]);
   }
+}
+
+/** "Drain–source capacitance, point 3" for an issue path inside the curve. */
+function curvePointLabel(path) {
+  const m = /^(.*?)\[(\d+)\]/.exec(path);
+  const field = m && formField(m[1]);
+  return field ? `${field.label}, point ${Number(m[2]) + 1}` : undefined;
 }
 
 // ---------- running ----------
@@ -518,7 +596,8 @@ async function simulate(window_) {
       if (window_) {
         drawDrain(data, window_);
       } else {
-        state.last = { scenario, result: data, label: state.sourceLabel };
+        const avalanche = parseSi(String(scenario.switch?.avalancheVoltage ?? ''), ['V']);
+        state.last = { scenario, result: data, label: state.sourceLabel, avalanche };
         state.editedSinceRun = false;
         drawAll(data);
       }
@@ -625,6 +704,10 @@ function drawDrain(result, window_) {
     level(report.deratedLimit, `derated limit ${fmtNumber(report.deratedLimit)} V`, 'limit:derated', DERATED_COLOUR, 'dashdot', 1.4),
     level(plateau, `Vin + VR ${fmtNumber(plateau)} V`, 'ref:plateau', '#8c8372', 'dot', 1),
   );
+  // Where the transistor breaks down and holds the drain (README, switch.avalancheVoltage).
+  const avalanche = state.last?.avalanche;
+  const hasAvalanche = Number.isFinite(avalanche) && avalanche > 0;
+  if (hasAvalanche) data.push(level(avalanche, `avalanche ${fmtNumber(avalanche)} V`, 'limit:avalanche', AVALANCHE_COLOUR, 'longdash', 1.4));
   const tag = (y, text, colour, shift) => ({
     x: 1, xref: 'paper', xanchor: 'right', y, yref: 'y', yanchor: shift > 0 ? 'bottom' : 'top', yshift: shift,
     text, showarrow: false, font: { color: colour, size: 12 }, bgcolor: 'rgba(255,253,248,0.85)',
@@ -639,6 +722,7 @@ function drawDrain(result, window_) {
       tag(report.voltageRating, `rating ${fmtNumber(report.voltageRating)} V`, RATING_COLOUR, 2),
       tag(report.deratedLimit, `derated limit ${fmtNumber(report.deratedLimit)} V (${fmtNumber(100 * report.deratedLimit / report.voltageRating, 3)} %)`, DERATED_COLOUR, 2),
       tag(plateau, `Vin + VR ${fmtNumber(plateau)} V`, '#6f6757', -2),
+      ...(hasAvalanche ? [tag(avalanche, `avalanche ${fmtNumber(avalanche)} V: the drain is held here`, AVALANCHE_COLOUR, 2)] : []),
     ],
   };
   Plotly.react(drainPlot, data, layout, PLOT_CONFIG);
@@ -742,9 +826,31 @@ function fmtSi(value, unit, digits = 4) {
 function fmtVolts(value) { return `${fmtNumber(value, 4)} V`.replace('-', '−'); }
 function fmtMargin(value) { return `${value >= 0 ? '+' : '−'}${fmtNumber(Math.abs(value), 4)} V`; }
 
+/**
+ * Columns for parts the design may not have: shown when some variant reports the metric
+ * ("clamp") or a non-zero value of it ("non-zero"), so an ideal design keeps its narrow table.
+ */
+function syncOptionalColumns(report) {
+  const present = Object.values(report.variants).filter(Boolean);
+  const shown = new Set();
+  for (const th of document.querySelectorAll('#metrics thead th[data-shown]')) {
+    const h = /** @type {HTMLElement} */ (th);
+    const metric = h.dataset.metric;
+    const visible = h.dataset.shown === 'clamp'
+      ? present.some((m) => m[metric] !== undefined && m[metric] !== null)
+      : present.some((m) => Number.isFinite(m[metric]) && m[metric] !== 0);
+    h.hidden = !visible;
+    if (visible) shown.add(metric);
+  }
+  return shown;
+}
+
 function fillTable(report) {
   const body = /** @type {HTMLTableSectionElement} */ ($('#metrics tbody'));
   body.replaceChildren();
+  const optional = syncOptionalColumns(report);
+  const wanted = (metric) => !$(`#metrics thead th[data-metric="${metric}"][data-shown]`) || optional.has(metric);
+  const columns = document.querySelectorAll('#metrics thead th:not([hidden])').length;
   for (const v of VARIANTS) {
     const m = report.variants[v];
     const row = document.createElement('tr');
@@ -765,7 +871,7 @@ function fillTable(report) {
     if (!m) {
       row.className = 'absent';
       const td = document.createElement('td');
-      td.colSpan = 11;
+      td.colSpan = columns - 1;
       td.textContent = v === 'clamp' ? 'no clamp in this design' : 'no damper in this design';
       row.append(td);
       body.append(row);
@@ -804,6 +910,20 @@ function fillTable(report) {
     cell('clampResistorPower', m.clampResistorPower, fmtSi(m.clampResistorPower, 'W', 3));
     cell('damperResistorPower', m.damperResistorPower, fmtSi(m.damperResistorPower, 'W', 3));
     cell('clampDiodePeakCurrent', m.clampDiodePeakCurrent, fmtSi(m.clampDiodePeakCurrent, 'A', 3));
+    if (wanted('peakAboveClamp')) cell('peakAboveClamp', m.peakAboveClamp, fmtSi(m.peakAboveClamp, 'V', 3));
+    if (wanted('clampDiodePower')) cell('clampDiodePower', m.clampDiodePower, fmtSi(m.clampDiodePower, 'W', 3));
+    if (wanted('clampDiodeReverseCharge')) cell('clampDiodeReverseCharge', m.clampDiodeReverseCharge, fmtSi(m.clampDiodeReverseCharge, 'C', 3));
+    cell('turnOffCurrent', m.turnOffCurrent, fmtSi(m.turnOffCurrent, 'A', 4));
+    if (wanted('turnOffLossPower')) cell('turnOffLossPower', m.turnOffLossPower, fmtSi(m.turnOffLossPower, 'W', 3));
+    if (wanted('avalancheEnergyPerCycle')) {
+      cell('avalancheEnergyPerCycle', m.avalancheEnergyPerCycle, fmtSi(m.avalancheEnergyPerCycle, 'J', 3));
+      const power = document.createElement('span');
+      power.className = 'sub';
+      power.dataset.metric = 'avalanchePower';
+      power.dataset.value = String(m.avalanchePower);
+      power.textContent = `${fmtSi(m.avalanchePower, 'W', 3)} mean`;
+      /** @type {HTMLElement} */ (row.lastElementChild).append(power);
+    }
     cell('ringFrequency', m.ringFrequency, fmtSi(m.ringFrequency, 'Hz', 4));
     const steady = m.settled ? 'settled' : m.orbit;
     cell('settled', m.settled, steady, null);
@@ -824,6 +944,21 @@ function fillTable(report) {
   // The server computes this warning but does not send it; the report has what is needed.
   line.classList.toggle('warn', report.voltageRating <= plateau);
   if (report.voltageRating <= plateau) line.textContent += ' — the rating is not above Vin + VR: no clamp can hold the drain under it';
+  fillCapacitanceEquivalents(report, plateau);
+}
+
+/** The curve as the two constants a datasheet quotes, so a measured part can be compared. */
+function fillCapacitanceEquivalents(report, plateau) {
+  const holder = $('#coss-equivalents');
+  const er = report.drainCapacitanceEnergyEquivalent, tr = report.drainCapacitanceChargeEquivalent;
+  holder.hidden = !(Number.isFinite(er) && Number.isFinite(tr));
+  if (holder.hidden) return;
+  const figure = (metric, value, name) => el('b', { dataset: { metric, value: String(value) }, text: `${name} ${fmtSi(value, 'F', 4)}` });
+  holder.replaceChildren(
+    `Transistor drain capacitance over 0…Vin + VR (${fmtNumber(plateau)} V) as datasheet constants: `,
+    figure('drainCapacitanceEnergyEquivalent', er, 'Co(er)'), ' stores the same energy, ',
+    figure('drainCapacitanceChargeEquivalent', tr, 'Co(tr)'), ' takes the same charge; the winding capacitance is not included.',
+  );
 }
 
 // ---------- scenarios: bundled, file, save ----------
@@ -897,31 +1032,7 @@ const sweepPlot = $('#sweep-plot');
 let panelsReady = false;
 
 const SI_SCALES = [[1e9, 'G'], [1e6, 'M'], [1e3, 'k'], [1, ''], [1e-3, 'm'], [1e-6, 'µ'], [1e-9, 'n'], [1e-12, 'p'], [1e-15, 'f']];
-const PREFIX_EXPONENT = { f: -15, p: -12, n: -9, u: -6, 'µ': -6, 'μ': -6, m: -3, k: 3, M: 6, G: 9 };
-const UNIT_SPELLINGS = { V: ['V'], A: ['A'], H: ['H'], F: ['F'], Hz: ['Hz'], s: ['s'], W: ['W'], 'Ω': ['Ω', 'ohm', 'Ohm', 'R'] };
 const SI_UNITS = Object.keys(UNIT_SPELLINGS);
-
-/**
- * A value as the server reads it: a number, optionally an SI prefix, optionally one of `units`
- * (undefined when it would not parse). Used only to preview and to label; the server decides.
- */
-function parseSi(text, units) {
-  const m = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$/.exec(String(text));
-  if (!m) return undefined;
-  const spellings = units.flatMap((u) => UNIT_SPELLINGS[u] ?? []);
-  const isUnit = (suffix) => suffix === '' || spellings.includes(suffix);
-  let exponent;
-  if (isUnit(m[2])) exponent = 0;
-  else {
-    for (const [prefix, e] of Object.entries(PREFIX_EXPONENT)) {
-      if (m[2].startsWith(prefix) && isUnit(m[2].slice(prefix.length))) { exponent = e; break; }
-    }
-  }
-  if (exponent === undefined) return undefined;
-  const mantissa = Number(m[1]);
-  const value = exponent < 0 ? mantissa / 10 ** -exponent : mantissa * 10 ** exponent;
-  return Number.isFinite(value) ? value : undefined;
-}
 
 /** A value as an engineer types it into the form: "43k", "3.9n", "330p", "560". */
 function siForForm(value) {
@@ -946,6 +1057,7 @@ function formField(path) {
 /** The form's current value of a numeric field (its default when empty), or undefined. */
 function formNumber(path) {
   const field = formField(path);
+  if (field?.curve) return curveEditor.nominal();
   const input = inputFor(path);
   if (!field || !input) return undefined;
   const text = input.value.trim();
@@ -1302,6 +1414,10 @@ function drawDesignPlot(data, zoomed) {
     level(0, end, derated, `derated limit ${fmtNumber(derated)} V`, 'limit:derated', DERATED_COLOUR, 'dashdot', 1.4),
     level(0, end, plateau, `Vin + VR ${fmtNumber(plateau)} V`, 'ref:plateau', '#8c8372', 'dot', 1),
   );
+  // The worst case breaks down at the same voltage as the scenario: the bare trace flattens there.
+  const avalanche = parseSi(String(state.design?.scenario.switch?.avalancheVoltage ?? ''), ['V']);
+  const hasAvalanche = Number.isFinite(avalanche) && avalanche > 0;
+  if (hasAvalanche) traces.push(level(0, end, avalanche, `avalanche ${fmtNumber(avalanche)} V`, 'limit:avalanche', AVALANCHE_COLOUR, 'longdash', 1.4));
   const window_ = zoomed ? designTurnOffWindow(data) : null;
   const layout = {
     ...BASE_LAYOUT,
@@ -1313,6 +1429,7 @@ function drawDesignPlot(data, zoomed) {
       levelTag(rating, `rating ${fmtNumber(rating)} V`, RATING_COLOUR, 2),
       levelTag(derated, `derated limit ${fmtNumber(derated)} V`, DERATED_COLOUR, 2),
       levelTag(plateau, `Vin,max + VR ${fmtNumber(plateau)} V`, '#6f6757', -2),
+      ...(hasAvalanche ? [levelTag(avalanche, `avalanche ${fmtNumber(avalanche)} V`, AVALANCHE_COLOUR, 2)] : []),
     ],
   };
   Plotly.react(designPlot, traces, layout, PLOT_CONFIG);
@@ -1365,7 +1482,9 @@ function studyFields() {
     if (group.optionalBlock && !(/** @type {HTMLInputElement | null} */ (document.getElementById(`use-${group.key}`))?.checked)) continue;
     for (const f of group.fields) {
       if (!f.path || f.choices || (f.when && f.when !== kind)) continue;
-      out.push({ group: STUDY_GROUPS[group.key], path: f.path, label: f.label, unit: f.unit });
+      // A curve is varied as a whole (the server scales every point); the value read is C at 0 V.
+      const label = f.curve && curveEditor?.mode() === 'curve' ? `${f.label}, whole curve (value at 0 V)` : f.label;
+      out.push({ group: STUDY_GROUPS[group.key], path: f.path, label, unit: f.unit });
     }
   }
   return out;
@@ -1849,6 +1968,7 @@ async function start() {
   resizer.observe(clampPlot);
   resizer.observe(designPlot);
   resizer.observe(sweepPlot);
+  if (curveEditor) resizer.observe(curveEditor.plot);
   if (!Plotly) {
     showGeneral(['The plotting library did not load (/vendor/plotly.min.js); reload the page.']);
     return;
