@@ -31,6 +31,7 @@ export declare class Solver {
   maxSteps: number;
   initialStepSize: number;
   maxStepSize: number;
+  maxExtrapolationColumns: number;
   denseOutput: boolean;
   relativeTolerance: number | number[];
   absoluteTolerance: number | number[];
