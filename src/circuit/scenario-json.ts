@@ -1,7 +1,7 @@
 // A validated Scenario back in the file format (plain SI numbers), for saving, for pasting
 // blocks into scenario files, and as the base that sweeps vary field by field.
 
-import type { Scenario } from './scenario.js';
+import type { Scenario, Share } from './scenario.js';
 
 export type ScenarioJson = Record<string, unknown> & { name: string };
 
@@ -29,7 +29,11 @@ export function scenarioToJson(s: Scenario): ScenarioJson {
   };
   if (s.clamp) out.clamp = { ...s.clamp };
   if (s.damper) out.damper = { ...s.damper };
-  if (s.design) out.design = structuredClone(s.design);
+  if (s.design) {
+    // Shares go back to the file's spelling: a number in the unit, or a percentage.
+    const share = (x: Share): number | string => (x.kind === 'absolute' ? x.value : `${Number((x.value * 100).toPrecision(12))}%`);
+    out.design = { ...structuredClone(s.design), voltageAllowance: share(s.design.voltageAllowance), lossBudget: share(s.design.lossBudget) };
+  }
   return out;
 }
 

@@ -53,11 +53,35 @@ export interface DesignTargets {
   ambientTemperature: number;
   /** Damper capacitor as a multiple of the drain capacitance. */
   damperCapacitanceRatio: number;
+  /** Kept below the derated limit at every corner for what the model leaves out; V or a fraction of the rating. */
+  voltageAllowance: Share;
+  /** Clamp plus damper loss allowed at the worst-loss corner; W or a fraction of the output power. */
+  lossBudget: Share;
+  /** Part tolerances (fractions), taken in the direction that hurts at each corner. */
+  resistorTolerance: number;
+  capacitorTolerance: number;
+  peakCurrentTolerance: number;
+  drainCapacitanceTolerance: number;
   /** Ring measured on a sample, alone and with a known capacitor added across drain-source. */
   measuredRing?: { frequency: number; frequencyWithAddedCapacitor: number; addedCapacitance: number };
 }
 
+/** A value in its field's unit, or a fraction of a reference named by the field (a rating, the output power). */
+export type Share = { kind: 'absolute'; value: number } | { kind: 'fraction'; value: number };
+
 export const DEFAULT_DESIGN: Omit<DesignTargets, 'inputVoltageMinimum' | 'inputVoltageMaximum' | 'measuredRing'> = {
+  /**
+   * 3 % of the rating for what the model leaves out: temperature (the breakdown voltage and Coss move
+   * with it), core loss, a probe's view of the drain, spreads not entered as tolerances (common practice).
+   */
+  voltageAllowance: { kind: 'fraction', value: 0.03 },
+  /** A clamp plus damper above a tenth of the output says: revisit the leakage or the reflected voltage (common practice). */
+  lossBudget: { kind: 'fraction', value: 0.1 },
+  /** Thick-film chip resistors ±5 %, X7R capacitors ±10 %, a controller's current-sense threshold ±7 %, Coss ±10 % (common practice; from memory for the controller). */
+  resistorTolerance: 0.05,
+  capacitorTolerance: 0.1,
+  peakCurrentTolerance: 0.07,
+  drainCapacitanceTolerance: 0.1,
   leakageTolerance: 0.2,
   drainDerating: 0.8,
   clampRippleMinimum: 0.05,

@@ -2,7 +2,7 @@
 // list of issues, each naming its field path, what was expected and what was found.
 
 import { parseSiNumber } from './si-number.js';
-import { DEFAULT_CLAMP_EXTRAS, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type SimulationSettings } from './scenario.js';
+import { DEFAULT_CLAMP_EXTRAS, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type Share, type SimulationSettings } from './scenario.js';
 
 export interface ValidationIssue { path: string; message: string }
 
@@ -14,11 +14,13 @@ type Range = 'positive' | 'non-negative' | 'fraction' | 'whole' | 'any';
 
 interface NumberField { kind: 'number'; unit: string; range: Range; optional?: number | 'absent'; bounds?: [number, number] }
 interface TextField { kind: 'text' }
+/** A value in `unit`, or a percentage of a reference ("3%"). */
+interface ShareField { kind: 'share'; unit: string; optional: Share; maximumPercent: number }
 /** A number, or datasheet points [[V, C], …] (a capacitance against voltage). */
 interface CurveField { kind: 'curve'; unit: string }
 interface ChoiceField { kind: 'choice'; options: readonly string[]; optional: string }
 interface BlockSpec { kind: 'block'; optional: boolean; fields: Record<string, FieldSpec> }
-type FieldSpec = NumberField | CurveField | TextField | ChoiceField | BlockSpec;
+type FieldSpec = NumberField | CurveField | ShareField | TextField | ChoiceField | BlockSpec;
 
 const num = (unit: string, range: Range, optional?: number | 'absent'): NumberField =>
   optional === undefined ? { kind: 'number', unit, range } : { kind: 'number', unit, range, optional };
@@ -75,6 +77,12 @@ const SCENARIO_SPEC: BlockSpec = block({
     capacitorSeries: { kind: 'choice', options: PREFERRED_SERIES, optional: DEFAULT_DESIGN.capacitorSeries },
     ambientTemperature: { kind: 'number', unit: '', range: 'any', optional: DEFAULT_DESIGN.ambientTemperature, bounds: [-40, 150] },
     damperCapacitanceRatio: setting('positive', DEFAULT_DESIGN.damperCapacitanceRatio, [1, 20]),
+    voltageAllowance: { kind: 'share', unit: 'V', optional: DEFAULT_DESIGN.voltageAllowance, maximumPercent: 30 },
+    lossBudget: { kind: 'share', unit: 'W', optional: DEFAULT_DESIGN.lossBudget, maximumPercent: 100 },
+    resistorTolerance: setting('non-negative', DEFAULT_DESIGN.resistorTolerance, [0, 0.5]),
+    capacitorTolerance: setting('non-negative', DEFAULT_DESIGN.capacitorTolerance, [0, 0.5]),
+    peakCurrentTolerance: setting('non-negative', DEFAULT_DESIGN.peakCurrentTolerance, [0, 0.5]),
+    drainCapacitanceTolerance: setting('non-negative', DEFAULT_DESIGN.drainCapacitanceTolerance, [0, 0.5]),
     measuredRing: block({
       frequency: num('Hz', 'positive'),
       frequencyWithAddedCapacitor: num('Hz', 'positive'),
@@ -151,6 +159,11 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
       else issues.push({ path: fieldPath, message: `expected one of ${field.options.join(', ')}, found ${describe(value)}` });
       continue;
     }
+    if (field.kind === 'share') {
+      const share = value === undefined ? field.optional : readShare(value, field, fieldPath, issues);
+      if (share !== undefined) out[key] = share;
+      continue;
+    }
     if (field.kind === 'curve') {
       const curve = readCurve(value, field.unit, fieldPath, issues);
       if (curve !== undefined) out[key] = curve;
@@ -177,6 +190,23 @@ function readBlock(spec: BlockSpec, input: unknown, path: string, issues: Valida
     }
   }
   return out;
+}
+
+const PERCENT = /^\s*(\d{1,3}(?:\.\d{1,6})?)\s*%\s*$/;
+
+function readShare(value: unknown, field: ShareField, path: string, issues: ValidationIssue[]): Share | undefined {
+  const expected = `a value in ${field.unit} (a number or a string with an SI prefix) or a percentage such as "3%" (at most ${field.maximumPercent} %)`;
+  const pct = typeof value === 'string' ? PERCENT.exec(value) : null;
+  if (pct) {
+    const percent = Number(pct[1]);
+    if (percent <= field.maximumPercent) return { kind: 'fraction', value: percent / 100 };
+    issues.push({ path, message: `expected ${expected}, found ${describe(value)}` });
+    return undefined;
+  }
+  const parsed = parseSiNumber(value, field.unit);
+  if (parsed.ok && parsed.value >= 0) return { kind: 'absolute', value: parsed.value };
+  issues.push({ path, message: `expected ${expected}, found ${describe(value)}` });
+  return undefined;
 }
 
 /** Most points a capacitance curve may have: datasheet curves are read off at a handful of voltages. */
@@ -370,7 +400,7 @@ export function fieldUnit(path: string): string | undefined {
     if (spec.kind !== 'block' || !Object.hasOwn(spec.fields, key)) return undefined;
     spec = spec.fields[key]!;
   }
-  return spec.kind === 'number' || spec.kind === 'curve' ? spec.unit : undefined;
+  return spec.kind === 'number' || spec.kind === 'curve' || spec.kind === 'share' ? spec.unit : undefined;
 }
 
 export function formatIssues(issues: readonly ValidationIssue[]): string {

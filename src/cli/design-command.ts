@@ -38,7 +38,8 @@ export function designTable(d: DesignResult): string {
   const h = d.hand;
   const lines: string[] = [
     `Clamp design for: ${d.scenario}`,
-    `Worst case: Vin ${v(h.worstCase.supplyVoltage, 'V')}, Llk ${v(h.worstCase.leakageInductance, 'H')} (+${(100 * h.targets.leakageTolerance).toFixed(0)} %), Ipk ${v(h.worstCase.peakCurrent, 'A')}; derated limit ${v(h.deratedLimit, 'V')} (${(100 * h.targets.drainDerating).toFixed(0)} % of the rating)`,
+    `Worst case: Vin ${v(h.worstCase.supplyVoltage, 'V')}, Llk ${v(h.worstCase.leakageInductance, 'H')} (+${(100 * h.targets.leakageTolerance).toFixed(0)} %), Ipk ${v(h.worstCase.peakCurrent, 'A')} (+${(100 * h.targets.peakCurrentTolerance).toFixed(0)} %), clamp R +${(100 * h.targets.resistorTolerance).toFixed(0)} %, C −${(100 * h.targets.capacitorTolerance).toFixed(0)} %, Coss −${(100 * h.targets.drainCapacitanceTolerance).toFixed(0)} %`,
+    `Limit: derated ${v(h.deratedLimit, 'V')} (${(100 * h.targets.drainDerating).toFixed(0)} % of the rating) less an allowance of ${v(d.allowance, 'V')} for what the model leaves out: every corner's peak ≤ ${v(h.deratedLimit - d.allowance, 'V')}`,
   ];
   if (h.extracted) lines.push(`From the measured ring: Coss ${v(h.extracted.drainCapacitance, 'F')}, Llk ${v(h.extracted.leakageInductance, 'H')}, Z0 ${v(h.extracted.characteristicImpedance, 'Ω')} (replace the scenario's values)`);
   lines.push('', 'Equations');
@@ -53,12 +54,16 @@ export function designTable(d: DesignResult): string {
     const rating = s.suggestedRating ? `rated ≥ ${v(s.suggestedRating, 'V')} (margin ${(100 * s.voltageMargin!).toFixed(0)} %)` : '';
     lines.push(`  ${s.part.padEnd(16)} ${v(s.value, s.unit).padStart(9)}  working ${v(s.workingVoltage, 'V')}${s.power !== undefined ? `, ${v(s.power, 'W')}` : ''}${s.peakCurrent !== undefined ? `, peak ${v(s.peakCurrent, 'A')}` : ''}  ${rating}${arr}`);
   }
-  lines.push('', 'Verification by settled simulation');
-  for (const [name, c] of [['worst case', d.verification.worstCase], ['nominal', d.verification.nominal]] as const) {
+  lines.push('', 'Verification by settled simulation, at every corner');
+  for (const c of d.corners) {
     const peaks = (['bare', 'clamp', 'damped'] as const).map((k) => `${k} ${v(c.variants[k]?.peakDrainVoltage, 'V')}`).join(', ');
-    lines.push(`  ${name.padEnd(10)} Vin ${v(c.conditions.supplyVoltage, 'V')}, Llk ${v(c.conditions.leakageInductance, 'H')}: peaks ${peaks}; ${c.pass ? 'PASS' : 'FAIL'}, margin ${v(c.margin, 'V')}; clamp ${v(c.variants.clamp?.clampVoltageMean, 'V')} ± ${v((c.variants.clamp?.clampVoltageRipple ?? NaN) / 2, 'V')}, clamp R ${v(c.variants.clamp?.clampResistorPower, 'W')}, damper R ${v(c.variants.damped?.damperResistorPower, 'W')}`);
+    const limiting = c.name === d.limitingCorner ? '  ← sets the peak' : '';
+    lines.push(`  ${c.name}: Vin ${v(c.inputVoltage, 'V')}, Llk ${v(c.leakageInductance, 'H')}, Ipk ${v(c.peakCurrent, 'A')}, R ${v(c.partValues.clampResistance, 'Ω')}, C ${v(c.partValues.clampCapacitance, 'F')}`);
+    lines.push(`      peaks ${peaks}; ${c.pass ? 'PASS' : 'FAIL'}, margin ${v(h.deratedLimit - d.allowance - c.peakDrainVoltage, 'V')}${limiting}`);
   }
-  lines.push('', `Overall: ${d.pass ? 'PASS' : 'FAIL'} against the derated limit.`);
+  const l = d.losses;
+  lines.push('', `Losses at "${l.corner}": clamp ${v(l.clamp, 'W')} + damper ${v(l.damper, 'W')} = ${v(l.total, 'W')}, ${(100 * l.share).toFixed(1)} % of the ${v(l.outputPower, 'W')} output; budget ${l.budget === null ? 'none' : v(l.budget, 'W')}: ${l.pass ? 'PASS' : 'FAIL'}`);
+  lines.push('', `Overall: ${d.pass ? 'PASS' : 'FAIL'} against the derated limit less the allowance at every corner, and the loss budget.`);
   for (const n of d.notes) lines.push(`Note: ${n}`);
   lines.push('', 'Design aid only, not compliance evidence: check parts against their datasheets and local codes. See the README, "Safety".');
   return lines.join('\n');

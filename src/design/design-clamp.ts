@@ -19,10 +19,35 @@ const MAX_ADJUSTMENT_STEPS = 6;
 export interface CornerVerification {
   conditions: Corner;
   variants: SimulationReport['variants'];
-  /** Clamp alone and clamp with damper both keep the drain at or under the derated limit. */
+  /** Clamp alone and clamp with damper both keep the drain at or under the derated limit less the allowance. */
   pass: boolean;
-  /** Derated limit minus the higher of the clamp and damped peaks, V. */
+  /** Derated limit less the allowance, minus the higher of the clamp and damped peaks, V. */
   margin: number;
+}
+
+/** A corner as `design --json` reports it. */
+export interface CornerReport {
+  name: string;
+  inputVoltage: number;
+  leakageInductance: number;
+  peakCurrent: number;
+  partValues: { clampResistance: number; clampCapacitance: number; damperResistance: number; damperCapacitance: number; drainCapacitanceFactor: number };
+  variants: SimulationReport['variants'];
+  /** The higher of the clamp and damped peaks, V. */
+  peakDrainVoltage: number;
+  pass: boolean;
+}
+
+export interface LossVerdict {
+  /** At the worst-loss corner, clamp and damper fitted, W: the clamp's resistor and diode, the damper's resistor. */
+  clamp: number;
+  damper: number;
+  total: number;
+  outputPower: number;
+  share: number;
+  budget: number | null;
+  pass: boolean;
+  corner: string;
 }
 
 export interface PartStress {
@@ -49,6 +74,12 @@ export interface DesignResult {
   adjustments: Array<{ resistance: number; capacitance: number; worstCasePeak: number; reason: string }>;
   stresses: PartStress[];
   verification: { worstCase: CornerVerification; nominal: CornerVerification };
+  /** V kept below the derated limit at every corner. */
+  allowance: number;
+  corners: CornerReport[];
+  /** The corner with the least margin. */
+  limitingCorner: string;
+  losses: LossVerdict;
   pass: boolean;
   notes: string[];
 }
@@ -56,13 +87,16 @@ export interface DesignResult {
 interface Verified { corner: CornerVerification; runs: VariantRun[] }
 
 export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: number; c: number; rs: number; cs: number }): Scenario {
+  // A capacitance extracted from a measured ring replaces the part's; otherwise the full curve is verified.
+  const coss = hand.extracted ? hand.extracted.drainCapacitance : s.switch.drainCapacitance;
+  const k = corner.drainCapacitanceFactor;
+  const control = s.switch.control.kind === 'peak-current' ? { ...s.switch.control, peakCurrent: corner.peakCurrent } : s.switch.control;
   return {
     ...s,
     supply: { voltage: corner.supplyVoltage },
-    // A capacitance extracted from a measured ring replaces the part's; otherwise the full curve is verified.
-    switch: { ...s.switch, drainCapacitance: hand.extracted ? hand.extracted.drainCapacitance : s.switch.drainCapacitance },
+    switch: { ...s.switch, control, drainCapacitance: typeof coss === 'number' ? coss * k : coss.map(([v, c]) => [v, c * k] as const) },
     transformer: { ...s.transformer, leakageInductance: corner.leakageInductance, ...(hand.extracted ? { windingCapacitance: 0 } : {}) },
-    clamp: { ...DEFAULT_CLAMP_EXTRAS, ...s.clamp, resistance: parts.r, capacitance: parts.c, diodeDrop: hand.clampDiodeDrop },
+    clamp: { ...DEFAULT_CLAMP_EXTRAS, ...s.clamp, resistance: parts.r * corner.resistanceFactor, capacitance: parts.c * corner.capacitanceFactor, diodeDrop: hand.clampDiodeDrop },
     damper: { resistance: parts.rs, capacitance: parts.cs },
   };
 }
@@ -75,8 +109,9 @@ function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: numbe
   const worst = Math.max(report.variants.clamp!.peakDrainVoltage, report.variants.damped!.peakDrainVoltage);
   // A run that did not settle has no steady-state peak to judge: it cannot pass.
   const settled = report.variants.clamp!.settled && report.variants.damped!.settled;
+  const limit = hand.deratedLimit - hand.allowance;
   return {
-    corner: { conditions: corner, variants: report.variants, pass: settled && worst <= hand.deratedLimit, margin: hand.deratedLimit - worst },
+    corner: { conditions: corner, variants: report.variants, pass: settled && worst <= limit, margin: limit - worst },
     runs,
   };
 }
@@ -103,8 +138,8 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
   const series = hand.targets.resistorSeries;
   // The ripple rule follows the resistor when it moves: C at or above 1/(ΔVc/Vc·R·fsw).
   const capacitanceFor = (r: number): number =>
-    roundToSeries(1 / (hand.targets.clampRippleMaximum * r * s.switch.frequency), hand.targets.capacitorSeries, 'up');
-  const peakOf = (v: Verified): number => hand.deratedLimit - v.corner.margin;
+    roundToSeries(1 / (hand.targets.clampRippleMaximum * r * s.switch.frequency * (1 - hand.targets.capacitorTolerance)), hand.targets.capacitorSeries, 'up');
+  const peakOf = (v: Verified): number => hand.deratedLimit - hand.allowance - v.corner.margin;
   let parts = { r: hand.resistance, c: hand.capacitance, rs: hand.damper.resistance, cs: hand.damper.capacitance };
   const adjustments: DesignResult['adjustments'] = [];
   const notes = [...hand.notes];
@@ -130,11 +165,29 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     }
   }
   if (!worst.corner.pass) notes.push(`After ${adjustments.length} resistor steps the worst case still exceeds the derated limit: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
-  const nominal = verify(s, hand, hand.nominal, parts, options.deadlineMs);
-  for (const [name, c] of [['worst case', worst.corner], ['nominal', nominal.corner]] as const) {
+  // Every other corner with the parts chosen at the worst case.
+  const verified = hand.corners.map((corner) => (corner === hand.worstCase ? worst : verify(s, hand, corner, parts, options.deadlineMs)));
+  const nominal = verified[hand.corners.indexOf(hand.nominal)]!;
+  for (const { corner: c } of verified) {
     const unsettled = (['clamp', 'damped'] as const).filter((v) => !c.variants[v]!.settled);
-    if (unsettled.length > 0) notes.push(`At the ${name} the ${unsettled.join(' and ')} variant did not settle (${unsettled.map((v) => c.variants[v]!.orbit).join(', ')}): the corner cannot pass until it does (fixed duty in continuous conduction at high line, or peak-current control above 50 % duty).`);
+    if (unsettled.length > 0) notes.push(`At the corner "${c.conditions.name}" the ${unsettled.join(' and ')} variant did not settle (${unsettled.map((v) => c.variants[v]!.orbit).join(', ')}): the corner cannot pass until it does (fixed duty in continuous conduction at high line, or peak-current control above 50 % duty).`);
   }
+  const corners: CornerReport[] = verified.map(({ corner: c }) => ({
+    name: c.conditions.name,
+    inputVoltage: c.conditions.supplyVoltage,
+    leakageInductance: c.conditions.leakageInductance,
+    peakCurrent: c.conditions.peakCurrent,
+    partValues: {
+      clampResistance: parts.r * c.conditions.resistanceFactor, clampCapacitance: parts.c * c.conditions.capacitanceFactor,
+      damperResistance: parts.rs, damperCapacitance: parts.cs, drainCapacitanceFactor: c.conditions.drainCapacitanceFactor,
+    },
+    variants: c.variants,
+    peakDrainVoltage: hand.deratedLimit - hand.allowance - c.margin,
+    pass: c.pass,
+  }));
+  const limiting = verified.reduce((a, b) => (b.corner.margin < a.corner.margin ? b : a)).corner;
+  const losses = lossVerdict(hand, verified.map((v) => v.corner));
+  if (!losses.pass) notes.push(`Clamp and damper dissipate ${losses.total.toFixed(2)} W at the corner "${losses.corner}", ${(100 * losses.share).toFixed(1)} % of the ${losses.outputPower.toFixed(2)} W output, over the budget of ${losses.budget!.toFixed(2)} W (design.lossBudget): a lower leakage inductance, a higher reflected voltage or a smaller damper capacitor lowers it.`);
 
   const stresses = partStresses(s, hand, parts, worst.corner);
   const damperPower = worst.corner.variants.damped!.damperResistorPower!;
@@ -150,10 +203,28 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     adjustments,
     stresses,
     verification: { worstCase: worst.corner, nominal: nominal.corner },
-    pass: worst.corner.pass && nominal.corner.pass,
+    allowance: hand.allowance,
+    corners,
+    limitingCorner: limiting.conditions.name,
+    losses,
+    pass: verified.every((v) => v.corner.pass) && losses.pass,
     notes,
     worstCaseRuns: worst.runs,
   };
+}
+
+/** The loss of the built design (clamp and damper fitted) at the corner where it is highest, against the budget. */
+function lossVerdict(hand: HandDesign, corners: readonly CornerVerification[]): LossVerdict {
+  const of = (c: CornerVerification) => {
+    const m = c.variants.damped!;
+    const clamp = (m.clampResistorPower ?? 0) + (m.clampDiodePower ?? 0);
+    const damper = m.damperResistorPower ?? 0;
+    return { clamp, damper, total: clamp + damper, outputPower: m.outputPower, corner: c.conditions.name };
+  };
+  const worst = corners.map(of).reduce((a, b) => (b.total > a.total ? b : a));
+  const b = hand.targets.lossBudget;
+  const budget = b.kind === 'absolute' ? b.value : b.value * worst.outputPower;
+  return { ...worst, share: worst.total / worst.outputPower, budget, pass: worst.total <= budget };
 }
 
 function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: number; rs: number; cs: number }, worst: CornerVerification): PartStress[] {
@@ -180,7 +251,7 @@ function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: numb
     {
       part: 'clamp diode', value: hand.clampDiodeDrop, unit: 'V', workingVoltage: diodeReverse, peakCurrent: clamp.clampDiodePeakCurrent!,
       ...(diodeRating ? { suggestedRating: diodeRating, voltageMargin: capacitorVoltageMargin(diodeReverse, diodeRating) } : {}),
-      note: 'reverse voltage while the switch is on: Vin,max + Vc; a fast or ultrafast recovery diode (recovery is not modelled)',
+      note: 'reverse voltage while the switch is on: Vin,max + Vc; a fast or ultrafast recovery diode (give its trr and VFP in the scenario to verify with them)',
     },
     {
       part: 'damper resistor', value: parts.rs, unit: 'Ω', workingVoltage: damped.peakDrainVoltage, power: damped.damperResistorPower!,

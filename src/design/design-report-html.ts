@@ -48,13 +48,13 @@ ${ticks.join('')}${legend}
 export function designReportHtml(scenario: Scenario, d: DesignResult, worstCaseRuns: readonly VariantRun[]): string {
   const h = d.hand;
   const rows = (cells: string[][]): string => cells.map((r) => `<tr>${r.map((c) => `<td>${c}</td>`).join('')}</tr>`).join('\n');
-  const verification = (['worstCase', 'nominal'] as const).map((k) => {
-    const c = d.verification[k];
-    return (['bare', 'clamp', 'damped'] as const).map((vName) => {
-      const m = c.variants[vName];
-      return [k === 'worstCase' ? 'worst case' : 'nominal', vName, si(m?.peakDrainVoltage, 'V'), si(m?.marginToDeratedLimit, 'V'), si(m?.clampVoltageMean, 'V'), si(m?.clampVoltageRipple, 'V'), si(m?.clampResistorPower, 'W'), si(m?.damperResistorPower, 'W'), vName === 'bare' ? '' : (c.pass ? 'pass' : '<b>FAIL</b>')];
-    });
-  }).flat();
+  const limit = h.deratedLimit - d.allowance;
+  const verification = d.corners.map((c) => (['bare', 'clamp', 'damped'] as const).map((vName) => {
+    const m = c.variants[vName];
+    const name = `${esc(c.name)}${c.name === d.limitingCorner ? ' <b>(sets the peak)</b>' : ''}<br><small>Vin ${si(c.inputVoltage, 'V')}, Llk ${si(c.leakageInductance, 'H')}, Ipk ${si(c.peakCurrent, 'A')}, R ${si(c.partValues.clampResistance, 'Ω')}, C ${si(c.partValues.clampCapacitance, 'F')}</small>`;
+    return [vName === 'bare' ? name : '', vName, si(m?.peakDrainVoltage, 'V'), m ? si(limit - m.peakDrainVoltage, 'V') : '', si(m?.clampVoltageMean, 'V'), si(m?.clampVoltageRipple, 'V'), si(m?.clampResistorPower, 'W'), si(m?.damperResistorPower, 'W'), vName === 'bare' ? '' : (c.pass ? 'pass' : '<b>FAIL</b>')];
+  })).flat();
+  const l = d.losses;
   const stress = d.stresses.map((s) => [
     esc(s.part), si(s.value, s.unit), si(s.workingVoltage, 'V'), si(s.power, 'W'), si(s.peakCurrent, 'A'),
     s.suggestedRating ? `≥ ${si(s.suggestedRating, 'V')}` : '',
@@ -74,7 +74,7 @@ th { background: #efe8da; } .caution { background: #f8e9c8; border-left: 4px sol
 <p class="caution"><b>Design aid only, not compliance evidence.</b> Primary-side nodes of mains supplies are lethal and stay charged after unplugging (½·C·V²); clamp resistors run hot.
 Creepage, clearance, insulation, fault behaviour, avalanche ratings and temperatures are not modelled. Check every part against its datasheet, follow local codes and
 the applicable safety standards, and have the design reviewed by qualified, licensed people.</p>
-<p class="verdict">${d.pass ? 'Pass' : 'FAIL'}: peak drain voltage against the derated limit of ${si(h.deratedLimit, 'V')} (${(100 * h.targets.drainDerating).toFixed(0)} % of ${si(scenario.switch.voltageRating, 'V')}), at the worst case and at nominal.</p>
+<p class="verdict">${d.pass ? 'Pass' : 'FAIL'}: peak drain voltage at every corner against the derated limit of ${si(h.deratedLimit, 'V')} (${(100 * h.targets.drainDerating).toFixed(0)} % of ${si(scenario.switch.voltageRating, 'V')}) less an allowance of ${si(d.allowance, 'V')} for what the model leaves out, and clamp plus damper loss against the budget${l.budget === null ? '' : ` of ${si(l.budget, 'W')}`}.</p>
 
 <h2>Inputs</h2>
 <pre>${esc(JSON.stringify(scenarioToJson(scenario), null, 2))}</pre>
@@ -94,8 +94,10 @@ ${d.adjustments.length ? `<ul>${d.adjustments.map((a) => `<li>Clamp resistor ${s
 ${rows(stress)}</table>
 
 <h2>Verification by settled simulation</h2>
-<table><tr><th>corner</th><th>variant</th><th>peak drain</th><th>margin to limit</th><th>clamp mean</th><th>clamp ripple</th><th>clamp R power</th><th>damper R power</th><th>verdict</th></tr>
+<table><tr><th>corner</th><th>variant</th><th>peak drain</th><th>margin to limit less allowance</th><th>clamp mean</th><th>clamp ripple</th><th>clamp R power</th><th>damper R power</th><th>verdict</th></tr>
 ${rows(verification)}</table>
+<h2>Loss budget</h2>
+<p>At the corner "${esc(l.corner)}", clamp and damper fitted: clamp ${si(l.clamp, 'W')} (resistor and diode) + damper ${si(l.damper, 'W')} = ${si(l.total, 'W')}, ${(100 * l.share).toFixed(1)} % of the ${si(l.outputPower, 'W')} output; budget ${l.budget === null ? 'none' : si(l.budget, 'W')}: <b>${l.pass ? 'pass' : 'FAIL'}</b>.</p>
 <h3>Drain voltage at the worst case</h3>
 ${drainPlotSvg(worstCaseRuns, scenario.switch.voltageRating, h.deratedLimit)}
 ${d.notes.length ? `<h2>Notes</h2><ul>${d.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : ''}

@@ -13,7 +13,19 @@ export class DesignImpossible extends Error {}
 /** One line of the worked design: what, the formula, the value (SI) and where the formula comes from. */
 export interface EquationUse { quantity: string; formula: string; value: number; unit: string; source: string }
 
-export interface Corner { supplyVoltage: number; leakageInductance: number; peakCurrent: number }
+/**
+ * Where a design is verified: input voltage, leakage inductance and peak current, and each part's
+ * value as a factor on its nominal (1 at nominal; a tolerance in the direction that hurts elsewhere).
+ */
+export interface Corner {
+  name: string;
+  supplyVoltage: number;
+  leakageInductance: number;
+  peakCurrent: number;
+  resistanceFactor: number;
+  capacitanceFactor: number;
+  drainCapacitanceFactor: number;
+}
 
 export interface HandDesign {
   targets: DesignTargets;
@@ -25,6 +37,10 @@ export interface HandDesign {
   deratedLimit: number;
   worstCase: Corner;
   nominal: Corner;
+  /** Every corner the design is verified at: the worst case first, nominal last. */
+  corners: Corner[];
+  /** Kept below the derated limit at every corner, V. */
+  allowance: number;
   clampDiodeDrop: number;
   clampVoltageTarget: number;
   resistanceExact: number;
@@ -75,14 +91,36 @@ export function handDesign(s: Scenario): HandDesign {
   }
 
   const vinMax = targets.inputVoltageMaximum ?? s.supply.voltage;
+  const vinMin = targets.inputVoltageMinimum ?? s.supply.voltage;
   const llkWorst = llk * (1 + targets.leakageTolerance);
-  const worstCase: Corner = { supplyVoltage: vinMax, leakageInductance: llkWorst, peakCurrent: peakCurrentAt(s, vinMax, llkWorst) };
-  const nominal: Corner = { supplyVoltage: s.supply.voltage, leakageInductance: llk, peakCurrent: peakCurrentAt(s, s.supply.voltage, llk) };
+  const nominalCorner = (name: string, supplyVoltage: number): Corner => ({
+    name, supplyVoltage, leakageInductance: llk, peakCurrent: peakCurrentAt(s, supplyVoltage, llk),
+    resistanceFactor: 1, capacitanceFactor: 1, drainCapacitanceFactor: 1,
+  });
+  // Higher leakage, peak current and clamp resistor, a smaller clamp capacitor (more ripple) and a
+  // smaller Coss (more of the leakage energy reaches the clamp) all raise the clamped peak.
+  const peakCorner = (name: string, supplyVoltage: number): Corner => ({
+    name, supplyVoltage, leakageInductance: llkWorst,
+    peakCurrent: peakCurrentAt(s, supplyVoltage, llkWorst) * (1 + targets.peakCurrentTolerance),
+    resistanceFactor: 1 + targets.resistorTolerance, capacitanceFactor: 1 - targets.capacitorTolerance,
+    drainCapacitanceFactor: 1 - targets.drainCapacitanceTolerance,
+  });
+  const worstCase = peakCorner('high line, parts at their worst for the peak', vinMax);
+  const nominal = nominalCorner('nominal', s.supply.voltage);
+  const corners: Corner[] = [
+    worstCase,
+    // A lower clamp resistor holds the clamp lower, where the clamp takes more of the reflected energy.
+    { ...worstCase, name: 'high line, parts at their worst for the loss', resistanceFactor: 1 - targets.resistorTolerance, capacitanceFactor: 1 },
+    ...(vinMin < vinMax ? [peakCorner('low line, parts at their worst for the peak', vinMin)] : []),
+    nominal,
+  ];
   const ipk = worstCase.peakCurrent;
   const vf = s.clamp?.diodeDrop ?? 1.0;
   const deratedLimit = use('derated drain limit', 'Vlimit = derating · V(BR)DSS', targets.drainDerating * s.switch.voltageRating, 'V', 'derating of the drain voltage: common practice (IPC-9592B asks for derating, from memory)');
+  const allowance = targets.voltageAllowance.kind === 'absolute' ? targets.voltageAllowance.value : targets.voltageAllowance.value * s.switch.voltageRating;
+  use('allowance for what the model leaves out', 'design.voltageAllowance', allowance, 'V', 'common practice: a few percent of the rating');
 
-  const vcTarget = use('clamp voltage target (above the rail)', 'Vc = Vlimit − Vin,max − Vf', deratedLimit - vinMax - vf, 'V', 'drain = rail + clamp + diode drop');
+  const vcTarget = use('clamp voltage target (above the rail)', 'Vc = Vlimit − allowance − Vin,max − Vf', deratedLimit - allowance - vinMax - vf, 'V', 'drain = rail + clamp + diode drop');
   if (!(vcTarget > vr * 1.05)) {
     throw new DesignImpossible(`the derated limit ${deratedLimit.toFixed(1)} V leaves no room for a clamp above VR = ${vr.toFixed(1)} V at Vin = ${vinMax} V (the clamp voltage must exceed VR, or the clamp would carry the output's energy): raise switch.voltageRating, design.drainDerating, or lower the turns ratio`);
   }
@@ -90,12 +128,12 @@ export function handDesign(s: Scenario): HandDesign {
     notes.push(`The clamp voltage target ${vcTarget.toFixed(1)} V is ${(vcTarget / vr).toFixed(2)} × VR; 1.5–2.5 × VR is usual (common practice): ${vcTarget < 1.5 * vr ? 'close to VR the clamp dissipates much of the reflected energy' : 'the transistor has headroom for a higher reflected voltage'}.`);
   }
   const rExact = use('clamp resistor (exact)', 'R = 2·Vc·(Vc − VR) / (Llk·Ipk²·fsw)', clampResistance(llkWorst, ipk, f, vcTarget, vr), 'Ω', SRC_CLAMP);
-  // A smaller R holds the clamp lower: round down.
-  const r = use(`clamp resistor (${targets.resistorSeries}, rounded down)`, 'the preferred value at or below R', roundToSeries(rExact, targets.resistorSeries, 'down'), 'Ω', SRC_SERIES);
+  // A smaller R holds the clamp lower: round down, with room for the part's tolerance upwards.
+  const r = use(`clamp resistor (${targets.resistorSeries}, rounded down)`, `the preferred value at or below R/(1 + ${targets.resistorTolerance})`, roundToSeries(rExact / (1 + targets.resistorTolerance), targets.resistorSeries, 'down'), 'Ω', SRC_SERIES);
   const vc = use('clamp voltage with that resistor', 'Vc = VR/2 + √(VR²/4 + ½·R·Llk·Ipk²·fsw)', settledClampVoltage(r, llkWorst, ipk, f, vr), 'V', SRC_CLAMP);
   use('clamp power', 'P = ½·Llk·Ipk²·fsw·Vc/(Vc − VR)', clampPower(llkWorst, ipk, f, vc, vr), 'W', SRC_CLAMP);
   // A larger C keeps the ripple (and the peak) lower: the smallest preferred value meeting the maximum ripple.
-  const cExact = use('clamp capacitor (exact)', 'C = 1 / (ΔVc/Vc · R · fsw), at the maximum ripple', 1 / (targets.clampRippleMaximum * r * f), 'F', SRC_CLAMP);
+  const cExact = use('clamp capacitor (exact)', `C = 1 / (ΔVc/Vc · R · fsw · (1 − ${targets.capacitorTolerance})), at the maximum ripple`, 1 / (targets.clampRippleMaximum * r * f * (1 - targets.capacitorTolerance)), 'F', SRC_CLAMP);
   const c = use(`clamp capacitor (${targets.capacitorSeries}, rounded up)`, 'the preferred value at or above C', roundToSeries(cExact, targets.capacitorSeries, 'up'), 'F', SRC_SERIES);
   const ripple = use('clamp ripple', 'ΔVc ≈ Vc / (R·C·fsw)', clampRipple(vc, r, c, f), 'V', SRC_CLAMP);
   if (ripple / vc < targets.clampRippleMinimum) {
@@ -112,7 +150,7 @@ export function handDesign(s: Scenario): HandDesign {
 
   return {
     targets, drainCapacitance: coss, leakageInductance: llk, ...(extracted ? { extracted } : {}),
-    reflectedVoltage: vr, deratedLimit, worstCase, nominal, clampDiodeDrop: vf,
+    reflectedVoltage: vr, deratedLimit, worstCase, nominal, corners, allowance, clampDiodeDrop: vf,
     clampVoltageTarget: vcTarget, resistanceExact: rExact, resistance: r, capacitanceExact: cExact, capacitance: c,
     damper: { resistanceExact: damperExact.resistance, capacitanceExact: damperExact.capacitance, resistance: rs, capacitance: cs, lossPower: damperLoss, voltageStep },
     equations, notes,
