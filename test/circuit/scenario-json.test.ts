@@ -26,3 +26,14 @@ describe('scenario JSON paths on a capacitance curve', () => {
     expect(again.ok && again.scenario).toEqual(s);
   });
 });
+
+describe('scenario JSON of the design block', () => {
+  it('writes the allowance and the loss budget back as the file spells them, and they reload the same', () => {
+    const s = labScenario({ design: { voltageAllowance: '2.5%', lossBudget: 3 } });
+    const json = scenarioToJson(s);
+    expect((json.design as Record<string, unknown>).voltageAllowance).toBe('2.5%');
+    expect((json.design as Record<string, unknown>).lossBudget).toBe(3);
+    const again = validateScenario(JSON.parse(JSON.stringify(json)));
+    expect(again.ok && again.scenario.design).toEqual(s.design);
+  });
+});

@@ -351,6 +351,8 @@ describe('validateScenario on the design block', () => {
     expect(result.ok && result.scenario.design).toEqual({
       leakageTolerance: 0.2, drainDerating: 0.8, clampRippleMinimum: 0.05, clampRippleMaximum: 0.1,
       resistorSeries: 'E24', capacitorSeries: 'E12', ambientTemperature: 50, damperCapacitanceRatio: 4,
+      voltageAllowance: { kind: 'fraction', value: 0.03 }, lossBudget: { kind: 'fraction', value: 0.1 },
+      resistorTolerance: 0.05, capacitorTolerance: 0.1, peakCurrentTolerance: 0.07, drainCapacitanceTolerance: 0.1,
     });
   });
 
@@ -421,5 +423,28 @@ describe('validateScenario: real parts at the drain', () => {
     expect(result.scenario.switch.avalancheVoltage).toBeUndefined();
     expect(result.scenario.clamp).toMatchObject({ loopInductance: 0, loopResistance: 0, diodeCapacitance: 0, diodeTransitTimeRatio: 0.1 });
     expect(result.scenario.clamp!.diodeRecoveryTime).toBeUndefined();
+  });
+});
+
+describe('validateScenario: design allowance, loss budget and tolerances', () => {
+  it('reads a percentage as a fraction and a value with its unit as absolute', () => {
+    const doc = bias();
+    doc.design = { voltageAllowance: '4%', lossBudget: '1.5W', resistorTolerance: 0.01 };
+    const d = accepted(doc).scenario.design!;
+    expect(d.voltageAllowance).toEqual({ kind: 'fraction', value: 0.04 });
+    expect(d.lossBudget).toEqual({ kind: 'absolute', value: 1.5 });
+    expect(d.resistorTolerance).toBe(0.01);
+    expect(d.capacitorTolerance).toBe(0.1);
+  });
+
+  it.each([
+    ['design.voltageAllowance', '45%', 'at most 30 %'],
+    ['design.voltageAllowance', '5W', 'a value in V'],
+    ['design.lossBudget', -1, 'percentage'],
+    ['design.resistorTolerance', 0.8, 'from 0 to 0.5'],
+  ])('refuses %s = %s, naming it', (path, value, fragment) => {
+    const doc = bias();
+    doc.design = { [path.split('.')[1]!]: value };
+    expectIssue(issuesAfter(doc, () => {}), path, fragment);
   });
 });
