@@ -72,6 +72,12 @@ const GROUPS = [
     { path: 'design.capacitorSeries', label: 'Capacitor values from', choices: ['E12', 'E24', 'E96'], fallback: 'E12' },
     { path: 'design.ambientTemperature', label: 'Ambient temperature', unit: '°C', fallback: '50' },
     { path: 'design.damperCapacitanceRatio', label: 'Damper capacitor, times drain capacitance', unit: '×', fallback: '4' },
+    { path: 'design.voltageAllowance', label: 'Allowance kept below the derated limit, in volts or a percentage of the rating', unit: 'V', fallback: '3%' },
+    { path: 'design.lossBudget', label: 'Clamp and damper loss budget, in watts or a percentage of the output', unit: 'W', fallback: '10%' },
+    { path: 'design.resistorTolerance', label: 'Clamp resistor tolerance (0.05 = ±5 %)', unit: '', fallback: '0.05' },
+    { path: 'design.capacitorTolerance', label: 'Clamp capacitor tolerance (0.1 = ±10 %)', unit: '', fallback: '0.10' },
+    { path: 'design.peakCurrentTolerance', label: 'Current-sense threshold tolerance', unit: '', fallback: '0.07' },
+    { path: 'design.drainCapacitanceTolerance', label: 'Drain capacitance spread', unit: '', fallback: '0.10' },
     { heading: 'Ring measured on a sample (optional, all three)' },
     { path: 'design.measuredRing.frequency', label: 'Ring frequency as measured', unit: 'Hz' },
     { path: 'design.measuredRing.frequencyWithAddedCapacitor', label: 'Ring with a capacitor added across drain–source', unit: 'Hz' },
@@ -1194,7 +1200,6 @@ function levelTag(y, text, colour, shift) {
 
 let design = /** @type {null | ReturnType<typeof panelRunner>} */ (null);
 
-const CORNER_LABELS = { worstCase: 'worst case', nominal: 'nominal' };
 const DESIGN_LABELS = { bare: 'bare · no clamp', clamp: 'clamp · the designed RCD clamp', damped: 'damped · clamp + the designed RC damper' };
 
 async function runDesign() {
@@ -1244,10 +1249,11 @@ function drawDesign(data) {
   const rating = Number((bare.peakDrainVoltage + bare.marginToRating).toPrecision(10));
   const derated = hand.deratedLimit;
 
-  const failed = Object.entries(d.verification).filter(([, c]) => !c.pass)
-    .map(([k, c]) => `at the ${CORNER_LABELS[k] ?? k}: ${cornerSettled(c) ? 'over the derated limit' : 'did not settle'}`);
+  const failed = d.corners.filter((c) => !c.pass)
+    .map((c) => `at “${c.name}”: ${cornerSettled(c) ? 'over the derated limit less the allowance' : 'did not settle'}`);
+  if (!d.losses.pass) failed.push(`clamp and damper losses over the budget (${fmtNumber(100 * d.losses.share, 3)} % of the output)`);
   const verdict = $('#design-verdict');
-  verdict.replaceChildren(verdictBadge(d.pass), ` ${d.pass ? 'both corners within the derated limit' : failed.join('; ')}`);
+  verdict.replaceChildren(verdictBadge(d.pass), ` ${d.pass ? `every corner within the derated limit less ${fmtSi(d.allowance, 'V', 3)}, losses within the budget` : failed.join('; ')}`);
   verdict.className = `verdict-text ${d.pass ? 'pass' : 'fail'}`;
   verdict.dataset.pass = String(d.pass);
   $('#design-limit').textContent = `derated limit ${fmtVolts(derated)} = ${fmtNumber(100 * hand.targets.drainDerating, 3)} % of the ${fmtVolts(rating)} rating · worst case: ${fmtVolts(wc.conditions.supplyVoltage)} in, leakage ${fmtSi(wc.conditions.leakageInductance, 'H')} (+${fmtNumber(100 * hand.targets.leakageTolerance, 3)} %), ${fmtSi(wc.conditions.peakCurrent, 'A')} at turn-off`;
@@ -1292,7 +1298,15 @@ function drawDesign(data) {
 
   // Verification per corner.
   const vbody = /** @type {HTMLElement} */ ($('#design-verification tbody'));
-  vbody.replaceChildren(...Object.entries(d.verification).map(([key, c]) => {
+  // Every corner the design was verified at; the worst case and nominal keep their keys.
+  const cornerRows = d.corners.map((c, i) => ({
+    key: i === 0 ? 'worstCase' : c.name === 'nominal' ? 'nominal' : `corner-${i}`,
+    label: i === 0 ? `worst case (${c.name})` : c.name,
+    conditions: { supplyVoltage: c.inputVoltage, leakageInductance: c.leakageInductance, peakCurrent: c.peakCurrent },
+    variants: c.variants, pass: c.pass, margin: hand.deratedLimit - d.allowance - c.peakDrainVoltage,
+  }));
+  vbody.replaceChildren(...cornerRows.map((c) => {
+    const key = c.key;
     const v = c.variants;
     const settled = cornerSettled(c);
     const verdictCell = el('td', { class: 'verdict-cell', dataset: { metric: 'verdict' } }, verdictBadge(c.pass));
@@ -1301,7 +1315,7 @@ function drawDesign(data) {
       verdictCell.append(el('span', { class: 'sub', text: `${which.join(', ')} not settled` }));
     }
     const row = el('tr', { dataset: { corner: key, pass: String(c.pass), settled: String(settled) } },
-      el('th', { scope: 'row', text: CORNER_LABELS[key] ?? key }),
+      el('th', { scope: 'row', text: c.label }),
       numCell(c.conditions.supplyVoltage, fmtVolts(c.conditions.supplyVoltage)),
       numCell(c.conditions.leakageInductance, fmtSi(c.conditions.leakageInductance, 'H')),
       numCell(c.conditions.peakCurrent, fmtSi(c.conditions.peakCurrent, 'A')),
@@ -1317,6 +1331,19 @@ function drawDesign(data) {
     );
     return row;
   }));
+
+  // The allowance, the corner that sets the peak, and the loss verdict.
+  let lossLine = document.getElementById('design-losses');
+  if (!lossLine) {
+    lossLine = el('p', { id: 'design-losses', class: 'design-losses' });
+    $('#design-verification').after(lossLine);
+  }
+  const l = d.losses;
+  lossLine.replaceChildren(
+    `Every corner (${d.corners.map((c) => c.name).join('; ')}) is held ${fmtSi(d.allowance, 'V', 3)} below the derated limit for what the model leaves out; the peak is set at “${d.limitingCorner}”. `,
+    `Clamp and damper losses at “${l.corner}”: ${fmtSi(l.clamp, 'W', 3)} + ${fmtSi(l.damper, 'W', 3)} = ${fmtSi(l.total, 'W', 3)}, ${fmtNumber(100 * l.share, 3)} % of the ${fmtSi(l.outputPower, 'W', 3)} output; budget ${l.budget === null ? 'none' : fmtSi(l.budget, 'W', 3)} `,
+    verdictBadge(l.pass),
+  );
 
   // Part stresses.
   const sbody = /** @type {HTMLElement} */ ($('#design-stresses tbody'));

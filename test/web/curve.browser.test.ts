@@ -419,6 +419,8 @@ describe('the form against the README', () => {
         expect(shown.placeholder, f.path).not.toMatch(/^default/);
       } else if (f.fallback === 'supply.voltage') {
         expect(shown.placeholder, f.path).toBe('default: supply');
+      } else if (f.fallback.endsWith('%')) {
+        expect(shown.placeholder, f.path).toBe(`default ${f.fallback}`);
       } else if (/^E\d+$/.test(f.fallback)) {
         expect(shown.placeholder, f.path).toBe(`default (${f.fallback})`);
       } else {

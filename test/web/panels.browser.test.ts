@@ -162,9 +162,13 @@ describe('the design panel', () => {
       expect(verdict === 'PASS').toBe(settled && margin >= 0);
       expect(await page.getAttribute(row, 'data-pass')).toBe(String(verdict === 'PASS'));
     }
+    // The verdict needs every corner (high and low line among them) and the loss budget.
     const overall = await page.getAttribute('#design-verdict', 'data-pass');
     const corners = await page.locator('#design-verification tbody tr').evaluateAll((rows) => rows.map((r) => (r as HTMLElement).dataset.pass));
-    expect(overall).toBe(String(corners.every((p) => p === 'true')));
+    expect(corners.length).toBeGreaterThanOrEqual(2);
+    const losses = (await page.textContent('#design-losses .verdict'))?.trim();
+    expect(['PASS', 'FAIL']).toContain(losses);
+    expect(overall).toBe(String(corners.every((p) => p === 'true') && losses === 'PASS'));
     // The worst case is the nominal leakage plus the default 20 % spread (25 µH in the file).
     const leakageCell = '#design-verification tr[data-corner="worstCase"] td:nth-child(3)';
     expect(await dataValue(leakageCell)).toBeCloseTo(1.2 * 25e-6, 12);
