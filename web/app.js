@@ -26,12 +26,15 @@ const GROUPS = [
   { key: 'output', title: 'Output', fields: [
     { path: 'output.voltage', label: 'Regulated output voltage', unit: 'V' },
     { path: 'output.diodeDrop', label: 'Output rectifier forward drop', unit: 'V', fallback: '0' },
+    { path: 'output.power', label: 'Load power, instead of a peak current', unit: 'W' },
+    { path: 'output.efficiency', label: 'Share of the stored energy reaching the load', unit: '0–1', fallback: '0.85' },
   ] },
   { key: 'switch', title: 'Switch', fields: [
     { path: 'switch.frequency', label: 'Switching frequency', unit: 'Hz' },
     { control: true },
     { path: 'switch.peakCurrent', label: 'Primary current at turn-off', unit: 'A', when: 'peak-current' },
     { path: 'switch.maxDutyCycle', label: 'Maximum duty cycle', unit: '0–1', fallback: '0.9', when: 'peak-current' },
+    { path: 'switch.peakCurrentLimit', label: 'Controller current limit (overload corner of a design)', unit: 'A', when: 'peak-current' },
     { path: 'switch.dutyCycle', label: 'Duty cycle', unit: '0–1', when: 'fixed-duty' },
     { path: 'switch.drainCapacitance', label: 'Drain–source capacitance', unit: 'F', curve: true },
     { path: 'switch.onResistance', label: 'On-resistance', unit: 'Ω' },

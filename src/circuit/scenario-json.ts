@@ -14,9 +14,11 @@ export function scenarioToJson(s: Scenario): ScenarioJson {
     output: { ...s.output },
     switch: {
       frequency: s.switch.frequency,
+      // With the load given, the peak current is derived from it, not part of the file.
       ...(control.kind === 'peak-current'
-        ? { peakCurrent: control.peakCurrent, maxDutyCycle: control.maxDutyCycle }
+        ? { ...(s.output.power === undefined ? { peakCurrent: control.peakCurrent } : {}), maxDutyCycle: control.maxDutyCycle }
         : { dutyCycle: control.dutyCycle }),
+      ...(s.switch.peakCurrentLimit !== undefined ? { peakCurrentLimit: s.switch.peakCurrentLimit } : {}),
       drainCapacitance: s.switch.drainCapacitance,
       onResistance: s.switch.onResistance,
       bodyDiodeDrop: s.switch.bodyDiodeDrop,

@@ -11,7 +11,14 @@ export interface Scenario {
     /** Capacitance across the primary winding (drain to the supply rail), F. */
     windingCapacitance: number;
   };
-  output: { voltage: number; diodeDrop: number };
+  output: {
+    voltage: number;
+    diodeDrop: number;
+    /** The load, W, when the peak current is to be found from it (instead of switch.peakCurrent). */
+    power?: number;
+    /** Share of the magnetizing energy that reaches the load (what the model leaves out of the secondary). */
+    efficiency: number;
+  };
   switch: {
     frequency: number;
     control: SwitchControl;
@@ -22,6 +29,8 @@ export interface Scenario {
     voltageRating: number;
     /** Where the transistor breaks down and holds the drain, V; absent: no avalanche. */
     avalancheVoltage?: number;
+    /** The controller's current limit, A: the overload corner of a design. */
+    peakCurrentLimit?: number;
     /** Comparator and driver delay from the peak current to the switch opening, s. */
     turnOffDelay: number;
     /** The channel current falls linearly to zero over this time after opening, s. */
@@ -162,6 +171,9 @@ export const DEFAULT_CLAMP_EXTRAS = {
   /** 100 A/µs, a usual datasheet condition for VFP (from memory). */
   diodeForwardRecoveryRate: 1e8,
 } as const;
+
+/** 0.85: a small flyback's usual share of the stored energy that reaches the load (common practice). */
+export const DEFAULT_OUTPUT_EFFICIENCY = 0.85;
 
 /** Loop inductance assumed when forward recovery is given without one, H: a few nH always exist on a board (common practice). */
 export const FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE = 1e-9;

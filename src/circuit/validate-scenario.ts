@@ -2,7 +2,8 @@
 // list of issues, each naming its field path, what was expected and what was found.
 
 import { parseSiNumber } from './si-number.js';
-import { DEFAULT_CLAMP_EXTRAS, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type Share, type SimulationSettings } from './scenario.js';
+import { peakCurrentForPower } from './load-operating-point.js';
+import { DEFAULT_CLAMP_EXTRAS, DEFAULT_OUTPUT_EFFICIENCY, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type Share, type SimulationSettings } from './scenario.js';
 
 export interface ValidationIssue { path: string; message: string }
 
@@ -38,12 +39,18 @@ const SCENARIO_SPEC: BlockSpec = block({
     primaryResistance: num('Ω', 'non-negative', 0),
     windingCapacitance: num('F', 'non-negative', 0),
   }),
-  output: block({ voltage: num('V', 'positive'), diodeDrop: num('V', 'non-negative', 0) }),
+  output: block({
+    voltage: num('V', 'positive'),
+    diodeDrop: num('V', 'non-negative', 0),
+    power: num('W', 'positive', 'absent'),
+    efficiency: { kind: 'number', unit: '', range: 'fraction', optional: DEFAULT_OUTPUT_EFFICIENCY, bounds: [0.3, 1] },
+  }),
   switch: block({
     frequency: num('Hz', 'positive'),
     peakCurrent: num('A', 'positive', 'absent'),
     dutyCycle: num('', 'fraction', 'absent'),
     maxDutyCycle: num('', 'fraction', 0.9),
+    peakCurrentLimit: num('A', 'positive', 'absent'),
     drainCapacitance: { kind: 'curve', unit: 'F' },
     onResistance: num('Ω', 'non-negative'),
     bodyDiodeDrop: num('V', 'non-negative', 0.7),
@@ -257,19 +264,32 @@ export function validateScenario(input: unknown): ValidationResult {
   const raw = readBlock(SCENARIO_SPEC, input, '', issues) as Record<string, Plain> | undefined;
   // The choice of control is checked on the raw input, so that it is reported with the rest.
   const rawSwitch = (typeof input === 'object' && input !== null ? (input as Plain).switch : undefined) as Plain | undefined;
+  const rawOutput = (typeof input === 'object' && input !== null ? (input as Plain).output : undefined) as Plain | undefined;
   if (rawSwitch && typeof rawSwitch === 'object') {
-    const hasPeak = rawSwitch.peakCurrent !== undefined, hasDuty = rawSwitch.dutyCycle !== undefined;
-    if (hasPeak === hasDuty) {
+    const given = [
+      ['switch.peakCurrent', rawSwitch.peakCurrent], ['switch.dutyCycle', rawSwitch.dutyCycle],
+      ['output.power', rawOutput && typeof rawOutput === 'object' ? rawOutput.power : undefined],
+    ].filter(([, v]) => v !== undefined).map(([p]) => p as string);
+    if (given.length !== 1) {
       issues.push({
-        path: hasPeak ? 'switch.dutyCycle' : 'switch.peakCurrent',
-        message: `expected exactly one of switch.peakCurrent (peak-current control) and switch.dutyCycle (fixed duty), found ${hasPeak ? 'both' : 'neither'}`,
+        path: given.length === 0 ? 'switch.peakCurrent' : given[1]!,
+        message: `expected exactly one of switch.peakCurrent (peak-current control), switch.dutyCycle (fixed duty) and output.power (peak-current control at the current that delivers it), found ${given.length === 0 ? 'none' : given.join(' and ')}`,
       });
     }
   }
   if (!raw || issues.length > 0) return { ok: false, issues };
 
   const sw = raw.switch as Plain;
-  const peakCurrent = sw.peakCurrent as number | undefined;
+  const out = raw.output as Record<string, number>;
+  // With the load given, the peak current starts at the energy relation's estimate; the settled
+  // simulation refines it before a run (src/simulation/operating-point.ts).
+  const peakCurrent = out.power !== undefined
+    ? peakCurrentForPower({
+      power: out.power / out.efficiency!, magnetizingInductance: (raw.transformer as Record<string, number>).magnetizingInductance!,
+      frequency: sw.frequency as number, supplyVoltage: (raw.supply as Record<string, number>).voltage!,
+      reflectedVoltage: (raw.transformer as Record<string, number>).turnsRatio! * (out.voltage! + out.diodeDrop!),
+    }).peakCurrent
+    : sw.peakCurrent as number | undefined;
   const dutyCycle = sw.dutyCycle as number | undefined;
   const n = raw.transformer as Record<string, number>;
   const clamp = raw.clamp as Record<string, number> | undefined;
@@ -284,7 +304,7 @@ export function validateScenario(input: unknown): ValidationResult {
       primaryResistance: n.primaryResistance!,
       windingCapacitance: n.windingCapacitance!,
     },
-    output: { voltage: (raw.output as Record<string, number>).voltage!, diodeDrop: (raw.output as Record<string, number>).diodeDrop! },
+    output: { voltage: out.voltage!, diodeDrop: out.diodeDrop!, efficiency: out.efficiency!, ...(out.power !== undefined ? { power: out.power } : {}) },
     switch: {
       frequency: sw.frequency as number,
       control: peakCurrent !== undefined
@@ -295,6 +315,7 @@ export function validateScenario(input: unknown): ValidationResult {
       bodyDiodeDrop: sw.bodyDiodeDrop as number,
       voltageRating: sw.voltageRating as number,
       ...(sw.avalancheVoltage !== undefined ? { avalancheVoltage: sw.avalancheVoltage as number } : {}),
+      ...(sw.peakCurrentLimit !== undefined ? { peakCurrentLimit: sw.peakCurrentLimit as number } : {}),
       turnOffDelay: sw.turnOffDelay as number,
       currentFallTime: sw.currentFallTime as number,
     },
@@ -356,10 +377,9 @@ function checkPhysics(s: Scenario, issues: ValidationIssue[], warnings: Validati
     const resetsAtMaxDuty = dmax * vin < (1 - dmax) * vr;
     if (ipk >= finalCurrent || (resetsAtMaxDuty && ipk > reachableFromZero)) {
       const limit = resetsAtMaxDuty ? Math.min(finalCurrent, reachableFromZero) : finalCurrent;
-      issues.push({
-        path: 'switch.peakCurrent',
-        message: `expected a peak current the primary can reach within switch.maxDutyCycle of the period (at most about ${fmt(limit)} A here), found ${fmt(ipk)} A`,
-      });
+      issues.push(s.output.power === undefined
+        ? { path: 'switch.peakCurrent', message: `expected a peak current the primary can reach within switch.maxDutyCycle of the period (at most about ${fmt(limit)} A here), found ${fmt(ipk)} A` }
+        : { path: 'output.power', message: `expected a load the primary can deliver within switch.maxDutyCycle of the period: it needs about ${fmt(ipk)} A at the peak (at most about ${fmt(limit)} A here), found ${fmt(s.output.power)} W` });
     }
   }
   const av = s.switch.avalancheVoltage;

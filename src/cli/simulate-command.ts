@@ -2,6 +2,7 @@ import { loadScenarioFile } from '../circuit/load-scenario.js';
 import { availableVariants, type VariantName } from '../circuit/scenario.js';
 import { formatIssues } from '../circuit/validate-scenario.js';
 import { simulationReport } from '../analysis/simulation-report.js';
+import { settleOperatingPoint } from '../simulation/operating-point.js';
 import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
 import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { summaryTable } from './summary-table.js';
@@ -13,7 +14,7 @@ export interface SimulateOptions { json?: boolean; csv?: string; variant?: Varia
 export async function runSimulateCommand(file: string, options: SimulateOptions): Promise<void> {
   const loaded = await loadScenarioFile(file);
   if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
-  const scenario = loaded.scenario;
+  let scenario = loaded.scenario;
   for (const w of loaded.warnings) process.stderr.write(`warning: ${w.path}: ${w.message}\n`);
   const supported = availableVariants(scenario);
   if (options.variant && !supported.includes(options.variant)) {
@@ -23,6 +24,12 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   const variants = options.variant ? [options.variant] : supported;
   const runs: VariantRun[] = [];
   const failures: string[] = [];
+  try {
+    scenario = settleOperatingPoint(scenario).scenario;
+  } catch (error) {
+    if (!(error instanceof SimulationFailure)) throw error;
+    throw new SimulationFailed(error.message);
+  }
   for (const v of variants) {
     try {
       runs.push(runVariant(scenario, v));

@@ -5,6 +5,7 @@
 import { DEFAULT_CLAMP_EXTRAS, type Scenario, type VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { runVariant, type VariantRun } from '../simulation/run-variant.js';
+import { settleOperatingPoint } from '../simulation/operating-point.js';
 import { roundToSeries, stepInSeries, type PreferredSeries } from '../equations/preferred-values.js';
 import { chooseResistorArrangement, capacitorVoltageMargin, type ResistorArrangement } from '../equations/part-ratings.js';
 import { handDesign, type Corner, type HandDesign } from './hand-design.js';
@@ -102,16 +103,20 @@ export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, 
 }
 
 function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: number; c: number; rs: number; cs: number }, deadlineMs?: number): Verified {
-  const at = scenarioAtCorner(s, hand, corner, parts);
+  const placed = scenarioAtCorner(s, hand, corner, parts);
+  // With the load given, the corner's current is the one that delivers it there.
+  const settled = corner.fromLoad ? settleOperatingPoint(placed, deadlineMs === undefined ? {} : { deadlineMs }) : { scenario: placed, point: null };
+  const at = settled.scenario;
+  if (settled.point) corner = { ...corner, peakCurrent: settled.point.peakCurrent };
   const variants: VariantName[] = ['bare', 'clamp', 'damped'];
   const runs = variants.map((v) => runVariant(at, v, deadlineMs === undefined ? {} : { deadlineMs }));
   const report = simulationReport(at, runs, hand.targets.drainDerating);
   const worst = Math.max(report.variants.clamp!.peakDrainVoltage, report.variants.damped!.peakDrainVoltage);
   // A run that did not settle has no steady-state peak to judge: it cannot pass.
-  const settled = report.variants.clamp!.settled && report.variants.damped!.settled;
+  const allSettled = report.variants.clamp!.settled && report.variants.damped!.settled;
   const limit = hand.deratedLimit - hand.allowance;
   return {
-    corner: { conditions: corner, variants: report.variants, pass: settled && worst <= limit, margin: limit - worst },
+    corner: { conditions: corner, variants: report.variants, pass: allSettled && worst <= limit, margin: limit - worst },
     runs,
   };
 }

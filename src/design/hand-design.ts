@@ -2,6 +2,7 @@
 // in the direction that keeps the drain under its limit.
 
 import { DrainCapacitance } from '../model/drain-capacitance.js';
+import { peakCurrentForPower } from '../circuit/load-operating-point.js';
 import { reflectedVoltage, DEFAULT_DESIGN, type DesignTargets, type Scenario } from '../circuit/scenario.js';
 import { clampPower, clampResistance, clampRipple, settledClampVoltage } from '../equations/rcd-clamp.js';
 import { roundToSeries } from '../equations/preferred-values.js';
@@ -19,6 +20,8 @@ export interface EquationUse { quantity: string; formula: string; value: number;
  */
 export interface Corner {
   name: string;
+  /** The peak current is found from the load at this corner (output.power), not fixed. */
+  fromLoad: boolean;
   supplyVoltage: number;
   leakageInductance: number;
   peakCurrent: number;
@@ -59,6 +62,11 @@ const SRC_SERIES = 'IEC 60063:2015 preferred-number series';
 /** Peak primary current at a corner: set by the controller, or reached in D·T under fixed duty. */
 export function peakCurrentAt(s: Scenario, supplyVoltage: number, leakageInductance: number): number {
   const c = s.switch.control;
+  if (s.output.power !== undefined) {
+    // The load sets the current at each input voltage; verification settles it by simulation.
+    const vr = reflectedVoltage(s);
+    return peakCurrentForPower({ power: s.output.power / s.output.efficiency, magnetizingInductance: s.transformer.magnetizingInductance, frequency: s.switch.frequency, supplyVoltage, reflectedVoltage: vr }).peakCurrent;
+  }
   if (c.kind === 'peak-current') return c.peakCurrent;
   return (supplyVoltage * c.dutyCycle) / s.switch.frequency / (s.transformer.magnetizingInductance + leakageInductance);
 }
@@ -93,15 +101,18 @@ export function handDesign(s: Scenario): HandDesign {
   const vinMax = targets.inputVoltageMaximum ?? s.supply.voltage;
   const vinMin = targets.inputVoltageMinimum ?? s.supply.voltage;
   const llkWorst = llk * (1 + targets.leakageTolerance);
+  const fromLoad = s.output.power !== undefined;
+  // A regulated load sets the current whatever the sense threshold: its tolerance matters at the limit.
+  const senseFactor = fromLoad ? 1 : 1 + targets.peakCurrentTolerance;
   const nominalCorner = (name: string, supplyVoltage: number): Corner => ({
-    name, supplyVoltage, leakageInductance: llk, peakCurrent: peakCurrentAt(s, supplyVoltage, llk),
+    name, fromLoad, supplyVoltage, leakageInductance: llk, peakCurrent: peakCurrentAt(s, supplyVoltage, llk),
     resistanceFactor: 1, capacitanceFactor: 1, drainCapacitanceFactor: 1,
   });
   // Higher leakage, peak current and clamp resistor, a smaller clamp capacitor (more ripple) and a
   // smaller Coss (more of the leakage energy reaches the clamp) all raise the clamped peak.
   const peakCorner = (name: string, supplyVoltage: number): Corner => ({
-    name, supplyVoltage, leakageInductance: llkWorst,
-    peakCurrent: peakCurrentAt(s, supplyVoltage, llkWorst) * (1 + targets.peakCurrentTolerance),
+    name, fromLoad, supplyVoltage, leakageInductance: llkWorst,
+    peakCurrent: peakCurrentAt(s, supplyVoltage, llkWorst) * senseFactor,
     resistanceFactor: 1 + targets.resistorTolerance, capacitanceFactor: 1 - targets.capacitorTolerance,
     drainCapacitanceFactor: 1 - targets.drainCapacitanceTolerance,
   });
@@ -112,6 +123,10 @@ export function handDesign(s: Scenario): HandDesign {
     // A lower clamp resistor holds the clamp lower, where the clamp takes more of the reflected energy.
     { ...worstCase, name: 'high line, parts at their worst for the loss', resistanceFactor: 1 - targets.resistorTolerance, capacitanceFactor: 1 },
     ...(vinMin < vinMax ? [peakCorner('low line, parts at their worst for the peak', vinMin)] : []),
+    // Overload: the controller's current limit at the top of its tolerance, whatever the load.
+    ...(s.switch.peakCurrentLimit !== undefined && s.switch.control.kind === 'peak-current'
+      ? [{ ...worstCase, name: 'overload: current limit, high line, parts at their worst for the peak', fromLoad: false, peakCurrent: s.switch.peakCurrentLimit * (1 + targets.peakCurrentTolerance) }]
+      : []),
     nominal,
   ];
   const ipk = worstCase.peakCurrent;

@@ -4,6 +4,7 @@
 import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { reduceForDisplay, type ReducedTrace } from '../analysis/display-reduction.js';
+import { settleOperatingPoint } from '../simulation/operating-point.js';
 import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
 
 export interface SimulateTask {
@@ -29,7 +30,8 @@ export type SimulateTaskResult =
 export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const runs: VariantRun[] = [];
   try {
-    for (const v of task.variants) runs.push(runVariant(task.scenario, v, { deadlineMs: task.deadlineMs }));
+    const scenario = settleOperatingPoint(task.scenario, { deadlineMs: task.deadlineMs }).scenario;
+    for (const v of task.variants) runs.push(runVariant(scenario, v, { deadlineMs: task.deadlineMs }));
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;

@@ -5,6 +5,7 @@ import { validateScenario, formatIssues } from '../circuit/validate-scenario.js'
 import { availableVariants, type VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { runVariant, SimulationFailure } from '../simulation/run-variant.js';
+import { settleOperatingPoint } from '../simulation/operating-point.js';
 
 export interface PointTask {
   scenarioJson: Record<string, unknown>;
@@ -17,9 +18,10 @@ export type PointResult = { ok: true; report: SimulationReport } | { ok: false; 
 export function runPointTask(task: PointTask): PointResult {
   const validated = validateScenario(task.scenarioJson);
   if (!validated.ok) return { ok: false, failure: `invalid at this point: ${formatIssues(validated.issues).replace(/\n/g, '; ')}` };
-  const scenario = validated.scenario;
   try {
-    const runs = (task.variants ?? availableVariants(scenario)).map((v) => runVariant(scenario, v, task.deadlineMs === undefined ? {} : { deadlineMs: task.deadlineMs }));
+    const options = task.deadlineMs === undefined ? {} : { deadlineMs: task.deadlineMs };
+    const scenario = settleOperatingPoint(validated.scenario, options).scenario;
+    const runs = (task.variants ?? availableVariants(scenario)).map((v) => runVariant(scenario, v, options));
     return { ok: true, report: simulationReport(scenario, runs) };
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };

@@ -45,6 +45,18 @@ describe('handDesign(scenario) against worked check values', () => {
     expect(corner.transformer.windingCapacitance).toBe(10e-12);
   });
 
+  it('adds an overload corner at the current limit plus its tolerance; with a load the sense tolerance moves only the limit', () => {
+    const limited = handDesign(labScenario({ switch: { peakCurrentLimit: 1.3 }, design: { peakCurrentTolerance: 0.1 } }));
+    const overload = limited.corners.find((c) => c.name.startsWith('overload'));
+    expect(overload?.peakCurrent).toBeCloseTo(1.43, 12);
+    expect(limited.worstCase.peakCurrent).toBeCloseTo(1.1, 12);
+    // With output.power the regulated current is found at each corner (fromLoad), not scaled.
+    const loaded = handDesign(labScenario({ switch: { peakCurrent: undefined, peakCurrentLimit: 1.3 }, output: { power: 8.5 }, design: { peakCurrentTolerance: 0.1 } }));
+    expect(loaded.worstCase.fromLoad).toBe(true);
+    expect(loaded.worstCase.peakCurrent).toBeCloseTo(Math.sqrt((2 * 8.5) / (200e-6 * 100e3 * 0.85)), 12);
+    expect(loaded.corners.find((c) => c.name.startsWith('overload'))?.fromLoad).toBe(false);
+  });
+
   it('rounds the resistor down and the capacitor up (both keep the drain lower)', () => {
     const h = handDesign(worked({ drainDerating: 0.81 }));
     expect(h.resistance).toBeLessThanOrEqual(h.resistanceExact);
