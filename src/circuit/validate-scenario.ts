@@ -3,6 +3,7 @@
 
 import { parseSiNumber } from './si-number.js';
 import { peakCurrentForPower } from './load-operating-point.js';
+import { plausibilityWarnings } from './plausibility.js';
 import { DEFAULT_CLAMP_EXTRAS, DEFAULT_OUTPUT_EFFICIENCY, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type Share, type SimulationSettings } from './scenario.js';
 
 export interface ValidationIssue { path: string; message: string }
@@ -339,7 +340,7 @@ export function validateScenario(input: unknown): ValidationResult {
   if (clamp) scenario.clamp = { ...clamp } as unknown as ClampParts;
   if (damper) scenario.damper = { resistance: damper.resistance!, capacitance: damper.capacitance! };
 
-  const warnings: ValidationIssue[] = [];
+  const warnings: ValidationIssue[] = plausibilityWarnings(scenario);
   checkPhysics(scenario, issues, warnings);
   return issues.length > 0 ? { ok: false, issues } : { ok: true, scenario, warnings };
 }

@@ -85,7 +85,7 @@ export interface DesignResult {
   notes: string[];
 }
 
-interface Verified { corner: CornerVerification; runs: VariantRun[] }
+interface Verified { corner: CornerVerification; runs: VariantRun[]; at: Scenario }
 
 export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: number; c: number; rs: number; cs: number }): Scenario {
   // A capacitance extracted from a measured ring replaces the part's; otherwise the full curve is verified.
@@ -102,13 +102,17 @@ export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, 
   };
 }
 
+/**
+ * The verdict needs the clamp and damped variants only; the bare one (for the plot and the table)
+ * runs at the final worst case, which keeps a design with several corners to two runs per corner.
+ */
 function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: number; c: number; rs: number; cs: number }, deadlineMs?: number): Verified {
   const placed = scenarioAtCorner(s, hand, corner, parts);
   // With the load given, the corner's current is the one that delivers it there.
   const settled = corner.fromLoad ? settleOperatingPoint(placed, deadlineMs === undefined ? {} : { deadlineMs }) : { scenario: placed, point: null };
   const at = settled.scenario;
   if (settled.point) corner = { ...corner, peakCurrent: settled.point.peakCurrent };
-  const variants: VariantName[] = ['bare', 'clamp', 'damped'];
+  const variants: VariantName[] = ['clamp', 'damped'];
   const runs = variants.map((v) => runVariant(at, v, deadlineMs === undefined ? {} : { deadlineMs }));
   const report = simulationReport(at, runs, hand.targets.drainDerating);
   const worst = Math.max(report.variants.clamp!.peakDrainVoltage, report.variants.damped!.peakDrainVoltage);
@@ -118,6 +122,7 @@ function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: numbe
   return {
     corner: { conditions: corner, variants: report.variants, pass: allSettled && worst <= limit, margin: limit - worst },
     runs,
+    at,
   };
 }
 
@@ -171,6 +176,10 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
   }
   if (!worst.corner.pass) notes.push(`After ${adjustments.length} resistor steps the worst case still exceeds the derated limit: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
   // Every other corner with the parts chosen at the worst case.
+  // The bare circuit at the final worst case, for the plot and the table.
+  const bare = runVariant(worst.at, 'bare', options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs });
+  worst = { ...worst, runs: [bare, ...worst.runs] };
+  worst.corner.variants = simulationReport(worst.at, worst.runs, hand.targets.drainDerating).variants;
   const verified = hand.corners.map((corner) => (corner === hand.worstCase ? worst : verify(s, hand, corner, parts, options.deadlineMs)));
   const nominal = verified[hand.corners.indexOf(hand.nominal)]!;
   for (const { corner: c } of verified) {
@@ -192,7 +201,8 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
   }));
   const limiting = verified.reduce((a, b) => (b.corner.margin < a.corner.margin ? b : a)).corner;
   const losses = lossVerdict(hand, verified.map((v) => v.corner));
-  if (!losses.pass) notes.push(`Clamp and damper dissipate ${losses.total.toFixed(2)} W at the corner "${losses.corner}", ${(100 * losses.share).toFixed(1)} % of the ${losses.outputPower.toFixed(2)} W output, over the budget of ${losses.budget!.toFixed(2)} W (design.lossBudget): a lower leakage inductance, a higher reflected voltage or a smaller damper capacitor lowers it.`);
+  if (!(losses.outputPower > 0)) notes.push(`The circuit delivers no power at the corner "${losses.corner}": check the scenario's values (the warnings name the unusual ones).`);
+  else if (!losses.pass) notes.push(`Clamp and damper dissipate ${losses.total.toFixed(2)} W at the corner "${losses.corner}", ${(100 * losses.share).toFixed(1)} % of the ${losses.outputPower.toFixed(2)} W output, over the budget of ${losses.budget!.toFixed(2)} W (design.lossBudget): a lower leakage inductance, a higher reflected voltage or a smaller damper capacitor lowers it.`);
 
   const stresses = partStresses(s, hand, parts, worst.corner);
   const damperPower = worst.corner.variants.damped!.damperResistorPower!;
@@ -229,7 +239,9 @@ function lossVerdict(hand: HandDesign, corners: readonly CornerVerification[]): 
   const worst = corners.map(of).reduce((a, b) => (b.total > a.total ? b : a));
   const b = hand.targets.lossBudget;
   const budget = b.kind === 'absolute' ? b.value : b.value * worst.outputPower;
-  return { ...worst, share: worst.total / worst.outputPower, budget, pass: worst.total <= budget };
+  // A corner that delivers nothing (a circuit that cannot run as described) cannot pass.
+  const share = worst.outputPower > 0 ? worst.total / worst.outputPower : Infinity;
+  return { ...worst, share, budget, pass: worst.outputPower > 0 && worst.total <= budget };
 }
 
 function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: number; rs: number; cs: number }, worst: CornerVerification): PartStress[] {

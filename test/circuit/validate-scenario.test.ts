@@ -159,14 +159,14 @@ describe('validateScenario field rules', () => {
     expectIssue(issues, 'switch.maxDutyCycle', 'expected a value between 0 and 1 (exclusive)', `found ${dmax}`);
   });
 
-  it('validateScenario rejects both switch.peakCurrent and switch.dutyCycle, saying "both"', () => {
+  it('validateScenario rejects both switch.peakCurrent and switch.dutyCycle, naming both', () => {
     const issues = issuesAfter(bias(), (d) => { d.switch.dutyCycle = 0.2; });
-    expectIssue(issues, 'switch.dutyCycle', 'expected exactly one of switch.peakCurrent', 'switch.dutyCycle', 'found both');
+    expectIssue(issues, 'switch.dutyCycle', 'expected exactly one of switch.peakCurrent', 'output.power', 'found switch.peakCurrent and switch.dutyCycle');
   });
 
-  it('validateScenario rejects neither switch.peakCurrent nor switch.dutyCycle, saying "neither"', () => {
+  it('validateScenario rejects none of switch.peakCurrent, switch.dutyCycle and output.power, saying "none"', () => {
     const issues = issuesAfter(bias(), (d) => { delete d.switch.peakCurrent; });
-    expectIssue(issues, 'switch.peakCurrent', 'expected exactly one of switch.peakCurrent', 'switch.dutyCycle', 'found neither');
+    expectIssue(issues, 'switch.peakCurrent', 'expected exactly one of switch.peakCurrent', 'switch.dutyCycle', 'found none');
   });
 
   it('validateScenario rejects a non-integer simulation.maxCycles (2.5) and a zero one', () => {
@@ -446,5 +446,20 @@ describe('validateScenario: design allowance, loss budget and tolerances', () =>
     const doc = bias();
     doc.design = { [path.split('.')[1]!]: value };
     expectIssue(issuesAfter(doc, () => {}), path, fragment);
+  });
+});
+
+describe('validateScenario: plausibility warnings (common practice ranges for small flybacks)', () => {
+  it.each([
+    ['transformer.magnetizingInductance', (d: Doc) => { d.transformer.magnetizingInductance = '0.4MH'; }, 'prefix'],
+    ['switch.drainCapacitance', (d: Doc) => { d.switch.drainCapacitance = '2u'; }, 'far outside'],
+    ['switch.frequency', (d: Doc) => { d.switch.frequency = '20M'; }, 'far outside'],
+    ['transformer.leakageInductance', (d: Doc) => { d.transformer.leakageInductance = '5u'; }, 'of the magnetizing inductance'],
+  ])('warns about %s and still accepts the scenario', (path, mutate, fragment) => {
+    const doc = gateDrive();
+    mutate(doc);
+    const result = validateScenario(doc);
+    expect(result.ok).toBe(true);
+    if (result.ok) expect(result.warnings.find((w) => w.path === path)?.message).toContain(fragment);
   });
 });
