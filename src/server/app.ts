@@ -104,7 +104,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
 
   app.post('/api/design', async (req, res) => {
     const { scenario, warnings } = readScenarioBody(req.body, ['scenario', 'columns']);
-    const capMs = 3 * runTimeCapMs; // a design verifies several corners and adjustments
+    const capMs = 6 * runTimeCapMs; // a design verifies several corners of the full model and its adjustments
     const result = await admitted(capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, deadlineMs: Date.now() + capMs }, { signal })) as DesignTaskResult;
     if (!result.ok) throw failed(result.failure, 'design');
     res.json({ ...result, warnings });
