@@ -287,7 +287,16 @@ function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: numb
   });
 }
 
-function preferredSplit(total: number, count: number, series: PreferredSeries): { value: number; total: number } {
-  const value = roundToSeries(total / count, series, 'nearest');
+/**
+ * Per-part value of a split resistor: from the design's series when n equal parts make the chosen
+ * total within 1 %, else from E96 (every 1 % step), so that the parts built are the value verified
+ * (5.6 kΩ: 2 × 2.7 kΩ = 5.4 kΩ in E24 is 3.6 % off; 2 × 2.8 kΩ in E96 is exact).
+ */
+export function preferredSplit(total: number, count: number, series: PreferredSeries): { value: number; total: number } {
+  for (const s of [series, 'E96'] as const) {
+    const value = roundToSeries(total / count, s, 'nearest');
+    if (Math.abs((value * count) / total - 1) <= 0.01 + 1e-12) return { value, total: value * count };
+  }
+  const value = roundToSeries(total / count, 'E96', 'nearest');
   return { value, total: value * count };
 }

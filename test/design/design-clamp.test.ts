@@ -5,7 +5,7 @@ import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { promisify } from 'node:util';
 import { handDesign, DesignImpossible } from '../../src/design/hand-design.js';
-import { designClamp, scenarioAtCorner } from '../../src/design/design-clamp.js';
+import { designClamp, preferredSplit, scenarioAtCorner } from '../../src/design/design-clamp.js';
 import { runVariant } from '../../src/simulation/run-variant.js';
 import { variantMetrics } from '../../src/analysis/variant-metrics.js';
 import { validateScenario } from '../../src/circuit/validate-scenario.js';
@@ -55,6 +55,14 @@ describe('handDesign(scenario) against worked check values', () => {
     expect(loaded.worstCase.fromLoad).toBe(true);
     expect(loaded.worstCase.peakCurrent).toBeCloseTo(Math.sqrt((2 * 8.5) / (200e-6 * 100e3 * 0.85)), 12);
     expect(loaded.corners.find((c) => c.name.startsWith('overload'))?.fromLoad).toBe(false);
+  });
+
+  it('splits a resistor into equal preferred parts whose total is the verified value within 1 % (IEC 60063 E24, then E96)', () => {
+    expect(preferredSplit(5600, 2, 'E24')).toEqual({ value: 2800, total: 5600 });
+    const r82 = preferredSplit(82, 2, 'E24');
+    expect(Math.abs(r82.total / 82 - 1)).toBeLessThanOrEqual(0.01);
+    // 3 × 3.3 kΩ = 9.9 kΩ is within 1 % of 10 kΩ: the design's own series stays.
+    expect(preferredSplit(10e3, 3, 'E24')).toEqual({ value: 3300, total: 9900 });
   });
 
   it('rounds the resistor down and the capacitor up (both keep the drain lower)', () => {
