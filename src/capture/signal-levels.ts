@@ -1,8 +1,10 @@
-// The drain's low (switch on) and high (switch off) levels. A flyback drain is bimodal but its
-// high side is spread over the ring, the plateau at Vin + VR and the idle level at Vin, so the
-// split between the two is found by Otsu's method (N. Otsu, "A threshold selection method from
-// gray-level histograms", IEEE Trans. SMC 9(1), 1979) on a 256-bin histogram, and each level is
-// the median of its class.
+// The drain's low (switch on) and high (switch off) levels, from a fine histogram. The low level is
+// the 1st percentile: the on-state, where any flyback spends well over 1 % of its period. The high
+// side of a flyback drain is spread over the ring, the plateau at Vin + VR, the idle level at Vin
+// and the demagnetisation ring between them, so a two-class split (Otsu) lands inside that spread
+// in DCM; the high level is instead the median of the samples above halfway between the 1st and
+// 99th percentiles, which lies near the plateau. (Our choice; the 1/99 % points stand for the
+// scope's "base" and "top" without the overshoot, common practice in pulse measurements.)
 
 export interface SignalLevels {
   lowVolts: number;
@@ -11,7 +13,7 @@ export interface SignalLevels {
   midpointVolts: number;
 }
 
-const BINS = 256;
+const BINS = 4096;
 
 export function signalLevels(volts: Float64Array): SignalLevels {
   let min = Infinity, max = -Infinity;
@@ -25,34 +27,18 @@ export function signalLevels(volts: Float64Array): SignalLevels {
   const counts = new Float64Array(BINS);
   const binOf = (v: number): number => Math.min(BINS - 1, Math.floor((v - min) / width));
   for (let i = 0; i < volts.length; i++) counts[binOf(volts[i]!)]!++;
-  // Otsu: the split that maximises the between-class variance ω0·ω1·(μ0 − μ1)².
-  const total = volts.length;
-  let sumAll = 0;
-  for (let b = 0; b < BINS; b++) sumAll += b * counts[b]!;
-  let weightBelow = 0, sumBelow = 0, bestSplit = 0, bestVariance = -1;
-  for (let b = 0; b < BINS - 1; b++) {
-    weightBelow += counts[b]!;
-    sumBelow += b * counts[b]!;
-    const weightAbove = total - weightBelow;
-    if (weightBelow === 0 || weightAbove === 0) continue;
-    const meanBelow = sumBelow / weightBelow;
-    const meanAbove = (sumAll - sumBelow) / weightAbove;
-    const variance = weightBelow * weightAbove * (meanBelow - meanAbove) ** 2;
-    if (variance > bestVariance) { bestVariance = variance; bestSplit = b; }
-  }
-  const lowVolts = binMedian(counts, 0, bestSplit, min, width);
-  const highVolts = binMedian(counts, bestSplit + 1, BINS - 1, min, width);
+  const quantile = (q: number, fromBin = 0): number => {
+    let total = 0;
+    for (let b = fromBin; b < BINS; b++) total += counts[b]!;
+    let running = 0;
+    for (let b = fromBin; b < BINS; b++) {
+      running += counts[b]!;
+      if (running >= q * total) return min + (b + 0.5) * width;
+    }
+    return max;
+  };
+  const lowVolts = quantile(0.01);
+  const top = quantile(0.99);
+  const highVolts = quantile(0.5, binOf((lowVolts + top) / 2));
   return { lowVolts, highVolts, midpointVolts: (lowVolts + highVolts) / 2 };
-}
-
-/** Median of the samples in bins first..last, to the bin's centre. */
-function binMedian(counts: Float64Array, first: number, last: number, min: number, width: number): number {
-  let total = 0;
-  for (let b = first; b <= last; b++) total += counts[b]!;
-  let running = 0;
-  for (let b = first; b <= last; b++) {
-    running += counts[b]!;
-    if (running >= total / 2) return min + (b + 0.5) * width;
-  }
-  return min + (last + 0.5) * width;
 }

@@ -1,0 +1,336 @@
+// Fits the scenario's leakage inductance, drain capacitance (a constant, or a scale on a curve) and
+// primary resistance to a captured drain waveform: least squares over the rings after the turn-off
+// edges, the simulated settled waveform aligned at each edge. The three circuit values are fitted
+// by Levenberg–Marquardt on their logarithms (positive, and steps in proportion) with a
+// forward-difference Jacobian, one settled simulation per column; the nuisance parameters (a time
+// shift per edge and a voltage offset of the capture) are solved for each simulation by
+// Gauss–Newton, which makes the outer problem the variable-projection one (Golub & Pereyra, SIAM J.
+// Numer. Anal. 10(2), 1973) and costs no simulation. The start comes from the ring itself:
+// L·C from its undamped frequency, Z0 = √(L/C) from its amplitude over the turn-off current, R from
+// its decay α = R/(2L) (a series RLC ring: any circuits text).
+
+import type { CapacitanceCurve, Scenario, VariantName } from '../circuit/scenario.js';
+import { runVariant, SimulationFailure } from '../simulation/run-variant.js';
+import { cholesky, choleskySolve, inverseDiagonal, normalEquations } from './small-linear-algebra.js';
+import type { RingAnalysis } from './ring-analysis.js';
+import { SimulatedTrace } from './simulated-trace.js';
+
+export class ModelFitFailed extends Error {}
+
+export interface FittedValue { value: number; sigma: number }
+
+export interface ModelFit {
+  variant: Extract<VariantName, 'bare' | 'clamp'>;
+  leakageInductance: FittedValue;
+  /** A constant Coss (F), or the factor on every point of a Coss curve. */
+  drainCapacitance: FittedValue & { kind: 'constant' | 'curve-scale' };
+  primaryResistance: FittedValue;
+  /** RMS of capture minus fitted simulation over the fitted windows, V. */
+  residualRmsVolts: number;
+  /** The capture's offset against the simulation, V (a probe or scope offset). */
+  offsetVolts: number;
+  samplesUsed: number;
+  edgesUsed: number;
+  simulations: number;
+  iterations: number;
+  /** The scenario with the fitted values. */
+  scenario: Scenario;
+}
+
+export interface FitOptions {
+  /** Settled simulations at most (the issue's "a few dozen"). */
+  maxSimulations?: number;
+  /** Samples per edge window kept for the fit (strided beyond). */
+  samplesPerEdge?: number;
+  /** Progress lines (each accepted step), for a person watching. */
+  log?: (line: string) => void;
+}
+
+/** Default budget of settled simulations for one fit. */
+export const MAX_FIT_SIMULATIONS = 40;
+const MAX_FIT_EDGES = 8;
+const SAMPLES_PER_EDGE = 3000;
+/** Simulated samples per ring period: Hermite error ~ (2π/64)⁴/384 of the amplitude, far below 8 bits. */
+const SIM_SAMPLES_PER_RING = 64;
+/** Forward-difference step in ln(parameter): well above the settled run's own noise (settle tolerance 1e-6). */
+const DIFFERENCE_STEP = 2e-3;
+const MAX_LOG_STEP = 0.5;
+
+interface CaptureWindows {
+  /** Time from the edge's midpoint crossing, s. */
+  u: Float64Array;
+  volts: Float64Array;
+  edgeOf: Int32Array;
+  edges: number;
+}
+
+interface Evaluation {
+  theta: number[];
+  trace: SimulatedTrace;
+  residual: Float64Array;
+  cost: number;
+  shifts: number[];
+  offset: number;
+  /** Sim time of the capture's edge crossing, before the shift. */
+  anchor: number;
+}
+
+export function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Array; volts: Float64Array }, ring: RingAnalysis, options: FitOptions = {}): ModelFit {
+  const maxSimulations = options.maxSimulations ?? MAX_FIT_SIMULATIONS;
+  const windows = captureWindows(capture, ring, options.samplesPerEdge ?? SAMPLES_PER_EDGE);
+  const curve = typeof scenario.switch.drainCapacitance === 'number' ? null : scenario.switch.drainCapacitance;
+  const base = structuredClone(scenario) as Scenario;
+  const ringPerCycle = ring.undampedFrequencyHz / scenario.switch.frequency;
+  base.simulation = {
+    ...base.simulation,
+    recordedCycles: 2,
+    samplesPerCycle: Math.min(50_000, Math.max(base.simulation.samplesPerCycle, Math.ceil(SIM_SAMPLES_PER_RING * ringPerCycle))),
+    settleTolerance: Math.min(base.simulation.settleTolerance, 1e-6),
+  };
+  let simulations = 0;
+  const simulate = (s: Scenario, variant: VariantName): SimulatedTrace => {
+    if (simulations >= maxSimulations) throw new ModelFitFailed(`the fit needed more than ${maxSimulations} settled simulations`);
+    simulations++;
+    return new SimulatedTrace(runVariant(s, variant));
+  };
+
+  // Which variant the board is: with a clamp block, the one whose simulated peak is nearer the captured one.
+  const capturedPeak = median(ring.rings.map((r) => capture.volts[r.peakIndex]!));
+  let variant: ModelFit['variant'] = 'bare';
+  let startTrace: SimulatedTrace;
+  try {
+    startTrace = simulate(base, 'bare');
+    if (base.clamp) {
+      const clamped = simulate(base, 'clamp');
+      if (Math.abs(peakOf(clamped) - capturedPeak) < Math.abs(peakOf(startTrace) - capturedPeak)) { variant = 'clamp'; startTrace = clamped; }
+    }
+  } catch (error) {
+    if (error instanceof SimulationFailure) throw new ModelFitFailed(`the scenario as given does not simulate: ${error.message}`);
+    throw error;
+  }
+
+  const start = startValues(base, ring, capture, startTrace, variant, curve);
+  const scenarioAt = (theta: readonly number[]): Scenario => {
+    const s = structuredClone(base) as Scenario;
+    s.transformer.leakageInductance = Math.exp(theta[0]!);
+    s.switch.drainCapacitance = curve ? curve.map(([v, c]) => [v, c * Math.exp(theta[1]!)] as const) : Math.exp(theta[1]!);
+    s.transformer.primaryResistance = Math.exp(theta[2]!);
+    return s;
+  };
+
+  const evaluate = (theta: number[], warm: Evaluation | null): Evaluation | null => {
+    let trace: SimulatedTrace;
+    try {
+      trace = simulate(scenarioAt(theta), variant);
+    } catch (error) {
+      if (error instanceof SimulationFailure) return null;
+      throw error;
+    }
+    const anchor = warm?.anchor ?? trace.risingCrossing(ring.levels.midpointVolts);
+    if (!Number.isFinite(anchor)) return null;
+    return solveNuisance(trace, windows, theta, anchor, warm);
+  };
+
+  const log = options.log ?? ((): void => undefined);
+  const describe = (e: Evaluation): string => `L ${Math.exp(e.theta[0]!).toExponential(4)} H, C ${Math.exp(e.theta[1]!).toExponential(4)}, R ${Math.exp(e.theta[2]!).toExponential(4)} Ω: rms ${Math.sqrt(e.cost / e.residual.length).toPrecision(4)} V`;
+  let current = evaluate(start, null);
+  if (!current) throw new ModelFitFailed('the simulation at the starting values failed or never crossed the capture\'s midpoint');
+  log(`start (${variant}): ${describe(current)}`);
+  let lambda = 1e-3;
+  let iterations = 0;
+  let jacobian: Float64Array[] | null = null;
+  const jacobianAt = (e: Evaluation): Float64Array[] | null => {
+    const columns: Float64Array[] = [];
+    for (let i = 0; i < 3; i++) {
+      const theta = [...e.theta];
+      theta[i]! += DIFFERENCE_STEP;
+      const moved = evaluate(theta, e);
+      if (!moved) return null;
+      const column = new Float64Array(e.residual.length);
+      for (let k = 0; k < column.length; k++) column[k] = (moved.residual[k]! - e.residual[k]!) / DIFFERENCE_STEP;
+      columns.push(column);
+    }
+    return columns;
+  };
+  {
+    for (; iterations < 15; iterations++) {
+      // One Jacobian, one trial, and the final Jacobian for the uncertainty must fit in the budget.
+      if (simulations + 3 + 1 + 3 > maxSimulations) break;
+      jacobian = jacobianAt(current);
+      if (!jacobian) throw new ModelFitFailed('a simulation near the current values failed');
+      const { jtj, jtr } = normalEquations(jacobian, current.residual);
+      let accepted = false;
+      let converged = false;
+      for (let attempt = 0; attempt < 5 && !accepted && simulations + 3 < maxSimulations; attempt++) {
+        const damped = jtj.map((row, i) => row.map((v, j) => (i === j ? v * (1 + lambda) + 1e-300 : v)));
+        const l = cholesky(damped);
+        if (!l) { lambda *= 10; continue; }
+        const step = choleskySolve(l, jtr).map((d) => Math.max(-MAX_LOG_STEP, Math.min(MAX_LOG_STEP, -d)));
+        const trial = evaluate(current.theta.map((v, i) => v + step[i]!), current);
+        if (trial && trial.cost < current.cost) {
+          const drop = (current.cost - trial.cost) / current.cost;
+          current = trial;
+          log(`step ${iterations + 1}: ${describe(current)}`);
+          jacobian = null;
+          lambda = Math.max(lambda / 3, 1e-9);
+          accepted = true;
+          converged = drop < 1e-6 || Math.max(Math.abs(step[0]!), Math.abs(step[1]!)) < 2e-5;
+        } else {
+          lambda *= 4;
+        }
+      }
+      if (!accepted || converged) { iterations++; break; }
+    }
+  }
+  // The uncertainty needs the Jacobian at the final point (three simulations were kept for it).
+  if (!jacobian) jacobian = jacobianAt(current);
+  const n = current.residual.length;
+  const dof = Math.max(1, n - 3 - windows.edges - 1);
+  const variance = current.cost / dof;
+  const diagonal = jacobian ? inverseDiagonal(normalEquations(jacobian, current.residual).jtj) : null;
+  const sigmaOf = (i: number, value: number): number => (diagonal ? value * Math.sqrt(Math.max(0, variance * diagonal[i]!)) : Infinity);
+  const theta = current.theta;
+  const L = Math.exp(theta[0]!), C = Math.exp(theta[1]!), R = Math.exp(theta[2]!);
+  return {
+    variant,
+    leakageInductance: { value: L, sigma: sigmaOf(0, L) },
+    drainCapacitance: { kind: curve ? 'curve-scale' : 'constant', value: C, sigma: sigmaOf(1, C) },
+    primaryResistance: { value: R, sigma: sigmaOf(2, R) },
+    residualRmsVolts: Math.sqrt(current.cost / n),
+    offsetVolts: current.offset,
+    samplesUsed: n,
+    edgesUsed: windows.edges,
+    simulations,
+    iterations,
+    scenario: withSimulationOf(scenarioAt(theta), scenario),
+  };
+}
+
+/** The fitted values in the user's scenario, with the user's own simulation settings back. */
+function withSimulationOf(fitted: Scenario, original: Scenario): Scenario {
+  return { ...fitted, simulation: { ...original.simulation } };
+}
+
+function peakOf(trace: SimulatedTrace): number {
+  let m = -Infinity;
+  for (const v of trace.values) m = Math.max(m, v);
+  return m;
+}
+
+function median(values: number[]): number {
+  const s = [...values].sort((a, b) => a - b);
+  return s[Math.floor(s.length / 2)]!;
+}
+
+/** ln L, ln C (or ln of the curve's scale), ln R from the ring (see the file comment). */
+function startValues(s: Scenario, ring: RingAnalysis, capture: { volts: Float64Array }, trace: SimulatedTrace, variant: VariantName, curve: CapacitanceCurve | null): number[] {
+  const omega0 = 2 * Math.PI * ring.undampedFrequencyHz;
+  const alpha = ring.decayPerSecond;
+  const first = ring.rings[0]!;
+  const Cw = s.transformer.windingCapacitance;
+  let L = s.transformer.leakageInductance;
+  if (variant === 'bare' && trace.turnOffCurrent > 0) {
+    // The ring starts a quarter period before its first peak at amplitude Ioff·Z0 (the leakage current
+    // when the output diode takes over); the fit's amplitude is at the peak, so undo a quarter period of decay.
+    const amplitudeAtStart = first.fit.amplitudeVolts * Math.exp(alpha * 0.25 / ring.frequencyHz);
+    const z0 = amplitudeAtStart / trace.turnOffCurrent;
+    const fromRing = z0 / omega0;
+    if (Number.isFinite(fromRing) && fromRing > L / 20 && fromRing < L * 20) L = fromRing;
+  }
+  void capture;
+  const node = 1 / (omega0 * omega0 * L);
+  const reflected = s.transformer.turnsRatio * (s.output.voltage + s.output.diodeDrop);
+  let cParameter: number;
+  if (curve) {
+    const atPlateau = curveAt(curve, s.supply.voltage + reflected);
+    const scale = (node - Cw) / atPlateau;
+    cParameter = scale > 0.05 && scale < 20 ? scale : 1;
+  } else {
+    const coss = node - Cw;
+    cParameter = coss > 0 ? coss : (s.switch.drainCapacitance as number);
+  }
+  const R = Math.max(2 * L * alpha, 1e-3 * Math.sqrt(L / node), 1e-6);
+  return [Math.log(L), Math.log(cParameter), Math.log(R)];
+}
+
+/** ln-linear interpolation of datasheet points, the last value beyond (as the model does). */
+function curveAt(curve: CapacitanceCurve, v: number): number {
+  for (let i = 0; i + 1 < curve.length; i++) {
+    const [v0, c0] = curve[i]!, [v1, c1] = curve[i + 1]!;
+    if (v <= v1) return c0 * Math.exp((Math.log(c1 / c0) * (Math.max(v, v0) - v0)) / (v1 - v0));
+  }
+  return curve[curve.length - 1]![1];
+}
+
+/** The captured samples the fit compares: from each edge's midpoint crossing to the end of its ring. */
+function captureWindows(capture: { timeSeconds: Float64Array; volts: Float64Array }, ring: RingAnalysis, samplesPerEdge: number): CaptureWindows {
+  const chosen = ring.rings.slice(0, MAX_FIT_EDGES);
+  const u: number[] = [], volts: number[] = [], edgeOf: number[] = [];
+  chosen.forEach((r, e) => {
+    const from = r.edge.index, to = r.endIndex;
+    const stride = Math.max(1, Math.ceil((to - from + 1) / samplesPerEdge));
+    for (let i = from; i <= to; i += stride) {
+      u.push(capture.timeSeconds[i]! - r.edge.timeSeconds);
+      volts.push(capture.volts[i]!);
+      edgeOf.push(e);
+    }
+  });
+  return { u: Float64Array.from(u), volts: Float64Array.from(volts), edgeOf: Int32Array.from(edgeOf), edges: chosen.length };
+}
+
+/** Per-edge time shifts and the offset that best align this simulation with the capture (Gauss–Newton). */
+function solveNuisance(trace: SimulatedTrace, w: CaptureWindows, theta: number[], anchor: number, warm: Evaluation | null): Evaluation | null {
+  const E = w.edges;
+  const shifts = warm ? [...warm.shifts] : new Array<number>(E).fill(0);
+  let offset = warm?.offset ?? 0;
+  const n = w.u.length;
+  const residual = new Float64Array(n);
+  const slope = new Float64Array(n);
+  const point = { value: 0, slope: 0 };
+  const fill = (): number => {
+    let cost = 0;
+    for (let k = 0; k < n; k++) {
+      trace.at(anchor + w.u[k]! + shifts[w.edgeOf[k]!]!, point);
+      const r = w.volts[k]! - point.value - offset;
+      residual[k] = r;
+      slope[k] = point.slope;
+      cost += r * r;
+    }
+    return cost;
+  };
+  let cost = fill();
+  for (let iteration = 0; iteration < 12; iteration++) {
+    // Normal equations in (shift_1..shift_E, offset); ∂r/∂shift = −slope, ∂r/∂offset = −1.
+    const size = E + 1;
+    const a = Array.from({ length: size }, () => new Array<number>(size).fill(0));
+    const g = new Array<number>(size).fill(0);
+    for (let k = 0; k < n; k++) {
+      const e = w.edgeOf[k]!;
+      const s = slope[k]!, r = residual[k]!;
+      a[e]![e]! += s * s;
+      a[e]![E]! += s;
+      a[E]![e]! += s;
+      a[E]![E]! += 1;
+      g[e]! += s * r;
+      g[E]! += r;
+    }
+    const l = cholesky(a);
+    if (!l) return null;
+    const step = choleskySolve(l, g);
+    const oldShifts = [...shifts], oldOffset = offset;
+    for (let e = 0; e < E; e++) shifts[e]! += step[e]!;
+    offset += step[E]!;
+    const trialCost = fill();
+    if (trialCost > cost) {
+      // Overshot (far from the minimum in a shift): take half steps back.
+      shifts.splice(0, E, ...oldShifts.map((s0, e) => s0 + step[e]! / 4));
+      offset = oldOffset + step[E]! / 4;
+      cost = fill();
+      continue;
+    }
+    const done = (cost - trialCost) <= 1e-10 * cost;
+    cost = trialCost;
+    if (done) break;
+  }
+  return { theta, trace, residual: Float64Array.from(residual), cost, shifts, offset, anchor };
+}
