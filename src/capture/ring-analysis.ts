@@ -41,6 +41,12 @@ export const MAX_RING_WINDOW_SAMPLES = 4000;
 const MAX_RING_PERIODS = 20;
 /** Edges analysed at most (a long capture repeats the same settled ring). */
 export const MAX_EDGES = 32;
+/**
+ * An extremum counts once the signal has moved this many noise σ back from it: white noise
+ * exceeds ±2.5σ (5σ peak to peak) in about 1 % of samples, and a run of such samples is rarer
+ * still (normal tails; our choice). The ring is followed while its half-swing is twice that.
+ */
+const HYSTERESIS_IN_NOISE = 5;
 /** Fewer samples per ring period than this cannot place the ring's extrema (Nyquist is 2; margin ours). */
 const MIN_SAMPLES_PER_PERIOD = 6;
 
@@ -101,7 +107,7 @@ function ringAfterEdge(t: Float64Array, v: Float64Array, edge: TurnOffEdge, limi
     else if (v[i]! < v[peak]! - 0.5 * (v[peak]! - levels.midpointVolts)) break;
   }
   if (i >= limit) return 'the capture ends (or the next on-time starts) before the first ring period';
-  const hysteresis = Math.max(8 * noise, 0.02 * (v[peak]! - levels.midpointVolts));
+  const hysteresis = Math.max(HYSTERESIS_IN_NOISE * noise, 0.02 * (v[peak]! - levels.midpointVolts));
   const extrema = followExtrema(v, peak, limit, hysteresis);
   // Keep the ring while its half-periods stay near the first ones and it stands out of the noise.
   const kept = [extrema[0]!];
@@ -111,7 +117,7 @@ function ringAfterEdge(t: Float64Array, v: Float64Array, edge: TurnOffEdge, limi
     const halfSwing = Math.abs(v[extrema[k]!]! - v[extrema[k - 1]!]!) / 2;
     if (k === 1) firstHalf = half;
     else if (Math.abs(half - firstHalf) > 0.35 * firstHalf) break;
-    if (halfSwing < 3 * hysteresis) break;
+    if (halfSwing < 2 * hysteresis) break;
     kept.push(extrema[k]!);
   }
   if (kept.length < 4) return `only ${kept.length - 1} half-period(s) of ring stand out of the noise (need 3)`;
