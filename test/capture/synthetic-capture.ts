@@ -43,13 +43,18 @@ export function gaussian(seed: number): () => number {
 export function syntheticCapture(scenario: Scenario, variant: VariantName, d: Degradation): { timeSeconds: Float64Array; volts: Float64Array } {
   const s = structuredClone(scenario);
   const period = 1 / s.switch.frequency;
-  const cycles = Math.ceil(d.spanSeconds / period) + 2;
+  const cycles = Math.ceil(d.spanSeconds / period) + 3;
   s.simulation = { ...s.simulation, recordedCycles: cycles, samplesPerCycle: 50_000 };
   const run = runVariant(s, variant);
   const w = run.recorder.waveform;
   const dt = w.timeSeconds[1]!;
-  const turnOff = run.recorder.cycles[1]!.turnOffSeconds + period;
-  const t0 = turnOff - d.preTriggerFraction * d.spanSeconds;
+  // Trigger on the first turn-off with the whole pre-trigger part inside the recorded cycles.
+  const pre = d.preTriggerFraction * d.spanSeconds;
+  let cycle = 0;
+  while (run.recorder.cycles[cycle]!.turnOffSeconds + cycle * period < pre) cycle++;
+  const turnOff = run.recorder.cycles[cycle]!.turnOffSeconds + cycle * period;
+  const t0 = turnOff - pre;
+  if (turnOff + d.spanSeconds - pre > w.timeSeconds[w.timeSeconds.length - 1]!) throw new Error('synthetic capture: record longer than the simulated cycles');
   const n = Math.floor(d.spanSeconds / d.sampleIntervalSeconds);
   const noise = gaussian(d.seed);
   const lsb = (d.fullScaleMax - d.fullScaleMin) / 2 ** d.bits;
