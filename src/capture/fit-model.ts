@@ -112,7 +112,7 @@ export function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Arra
     throw error;
   }
 
-  const start = startValues(base, ring, capture, startTrace, variant, curve);
+  const start = startValues(base, ring, startTrace, variant, curve);
   const scenarioAt = (theta: readonly number[]): Scenario => {
     const s = structuredClone(base) as Scenario;
     s.transformer.leakageInductance = Math.exp(theta[0]!);
@@ -236,7 +236,7 @@ function median(values: number[]): number {
 }
 
 /** ln L, ln C (or ln of the curve's scale), ln R from the ring (see the file comment). */
-function startValues(s: Scenario, ring: RingAnalysis, capture: { volts: Float64Array }, trace: SimulatedTrace, variant: VariantName, curve: CapacitanceCurve | null): number[] {
+function startValues(s: Scenario, ring: RingAnalysis, trace: SimulatedTrace, variant: VariantName, curve: CapacitanceCurve | null): number[] {
   const omega0 = 2 * Math.PI * ring.undampedFrequencyHz;
   const alpha = ring.decayPerSecond;
   const first = ring.rings[0]!;
@@ -250,7 +250,6 @@ function startValues(s: Scenario, ring: RingAnalysis, capture: { volts: Float64A
     const fromRing = z0 / omega0;
     if (Number.isFinite(fromRing) && fromRing > L / 20 && fromRing < L * 20) L = fromRing;
   }
-  void capture;
   const node = 1 / (omega0 * omega0 * L);
   const reflected = s.transformer.turnsRatio * (s.output.voltage + s.output.diodeDrop);
   let cParameter: number;

@@ -43,29 +43,29 @@ export function gaussian(seed: number): () => number {
 export function syntheticCapture(scenario: Scenario, variant: VariantName, d: Degradation): { timeSeconds: Float64Array; volts: Float64Array } {
   const s = structuredClone(scenario);
   const period = 1 / s.switch.frequency;
-  const cycles = Math.ceil(d.spanSeconds / period) + 3;
-  s.simulation = { ...s.simulation, recordedCycles: cycles, samplesPerCycle: 50_000 };
+  s.simulation = { ...s.simulation, recordedCycles: 3, samplesPerCycle: 50_000 };
   const run = runVariant(s, variant);
   const w = run.recorder.waveform;
   const dt = w.timeSeconds[1]!;
-  // Trigger on the first turn-off with the whole pre-trigger part inside the recorded cycles.
+  // The settled waveform repeats: the middle recorded cycle stands for every period, so a record
+  // of any length costs one run (the wrap is continuous to the settle tolerance).
+  const drainAt = (t: number): number => {
+    const x = (period + (((t % period) + period) % period)) / dt;
+    const i = Math.floor(x);
+    const f = x - i;
+    return w.channels.drainVoltage[i]! * (1 - f) + w.channels.drainVoltage[i + 1]! * f;
+  };
   const pre = d.preTriggerFraction * d.spanSeconds;
-  let cycle = 0;
-  while (run.recorder.cycles[cycle]!.turnOffSeconds + cycle * period < pre) cycle++;
-  const turnOff = run.recorder.cycles[cycle]!.turnOffSeconds + cycle * period;
+  // Trigger on a turn-off late enough that the record starts at t ≥ 0.
+  const turnOff = run.recorder.cycles[1]!.turnOffSeconds - period + Math.ceil(pre / period + 1) * period;
   const t0 = turnOff - pre;
-  if (turnOff + d.spanSeconds - pre > w.timeSeconds[w.timeSeconds.length - 1]!) throw new Error('synthetic capture: record longer than the simulated cycles');
   const n = Math.floor(d.spanSeconds / d.sampleIntervalSeconds);
   const noise = gaussian(d.seed);
   const lsb = (d.fullScaleMax - d.fullScaleMin) / 2 ** d.bits;
   const timeSeconds = new Float64Array(n), volts = new Float64Array(n);
   for (let k = 0; k < n; k++) {
     const t = t0 + k * d.sampleIntervalSeconds;
-    const x = t / dt;
-    const i = Math.floor(x);
-    const f = x - i;
-    const v = w.channels.drainVoltage[i]! * (1 - f) + w.channels.drainVoltage[i + 1]! * f;
-    let y = v + d.offsetVolts + d.noiseVolts * noise();
+    let y = drainAt(t) + d.offsetVolts + d.noiseVolts * noise();
     if (d.bits > 0) y = d.fullScaleMin + Math.min(2 ** d.bits - 1, Math.max(0, Math.floor((y - d.fullScaleMin) / lsb))) * lsb + lsb / 2;
     // Time as the scope reports it: zero at the trigger.
     timeSeconds[k] = t - turnOff;
