@@ -151,6 +151,6 @@ function fitTable(file: string, capture: Capture, ring: RingAnalysis, fit: Model
       `  leakage inductance ${formatSi(added.leakageInductance, 'H')}, node capacitance ${formatSi(added.drainCapacitance, 'F')} (Coss plus winding and layout)`);
   }
   for (const s of ring.skipped.slice(0, 5)) lines.push(`Note: ${s}`);
-  lines.push('', 'Probe bandwidth and a long ground lead bias the ring: see the README, "Fitting to a capture".');
+  lines.push('', 'Probe bandwidth and a long ground lead bias the ring: see the README, "flyclamp fit", Limits.');
   return lines.join('\n');
 }
