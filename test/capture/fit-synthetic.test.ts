@@ -21,13 +21,13 @@ import { captureCsv, scenarioFrom, syntheticCapture, type Degradation } from './
 const L = 400e-9, COSS = 330e-12, CW = 20e-12, R = 1.5;
 const closedFormRing = (l: number, c: number, r: number): number => Math.sqrt(1 / (l * c) - (r / (2 * l)) ** 2) / (2 * Math.PI);
 
-/** Peak-current control: the turn-off current is the scenario's, so the ring's amplitude Ioff·√(L/C) separates L from C. */
-const board = (overrides: { leakage?: string | number; coss?: unknown; resistance?: number; clamp?: boolean } = {}): Scenario => scenarioFrom({
+/** Peak-current control by default: the turn-off current is the scenario's, so the ring's amplitude Ioff·√(L/C) separates L from C. */
+const board = (overrides: { leakage?: string | number; coss?: unknown; resistance?: number; clamp?: boolean; fixedDuty?: boolean } = {}): Scenario => scenarioFrom({
   name: 'synthetic 30 V bias flyback',
   supply: { voltage: 30 },
   transformer: { magnetizingInductance: '20u', leakageInductance: overrides.leakage ?? L, turnsRatio: 1, primaryResistance: overrides.resistance ?? R, windingCapacitance: CW },
   output: { voltage: 15, diodeDrop: 0.4 },
-  switch: { frequency: '250k', peakCurrent: 0.9, drainCapacitance: overrides.coss ?? COSS, onResistance: '30m', voltageRating: 100 },
+  switch: { frequency: '250k', ...(overrides.fixedDuty ? { dutyCycle: 0.15 } : { peakCurrent: 0.9 }), drainCapacitance: overrides.coss ?? COSS, onResistance: '30m', voltageRating: 100 },
   ...(overrides.clamp ? { clamp: { resistance: '2.2k', capacitance: '10n', diodeDrop: 0.8 } } : {}),
 });
 const poorGuess = (coss: unknown = '495p', clamp = false): Scenario => board({ leakage: '300n', coss, resistance: 0.5, clamp });
@@ -85,6 +85,15 @@ describe('fit to degraded synthetic captures (issue 13 acceptance)', () => {
     expect(fit.drainCapacitance.kind).toBe('curve-scale');
     expect(relativeError(fit.drainCapacitance.value, 1.3)).toBeLessThan(0.02);
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
+  }, 60_000);
+
+  it('fixed duty in DCM, where the turn-off current itself depends on C: L and C within 2 %', () => {
+    const capture = syntheticCapture(board({ fixedDuty: true }), 'bare', scope({ seed: 13, preTriggerFraction: 0.35 }));
+    const ring = analyseRing(capture.timeSeconds, capture.volts);
+    const start = board({ fixedDuty: true, leakage: '300n', coss: '495p', resistance: 0.5 });
+    const fit = fitModel(start, capture, ring);
+    expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
+    expect(relativeError(fit.drainCapacitance.value, COSS)).toBeLessThan(0.02);
   }, 60_000);
 
   it('a clamped board: the clamp variant is chosen, L and C within 2 %', () => {
