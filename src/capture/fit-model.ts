@@ -244,8 +244,9 @@ function startValues(s: Scenario, ring: RingAnalysis, trace: SimulatedTrace, var
   let L = s.transformer.leakageInductance;
   if (variant === 'bare' && trace.turnOffCurrent > 0) {
     // The ring starts a quarter period before its first peak at amplitude Ioff·Z0 (the leakage current
-    // when the output diode takes over); the fit's amplitude is at the peak, so undo a quarter period of decay.
-    const amplitudeAtStart = first.fit.amplitudeVolts * Math.exp(alpha * 0.25 / ring.frequencyHz);
+    // when the output diode takes over); the fit's amplitude is at the first trough, so undo three
+    // quarters of a period of decay.
+    const amplitudeAtStart = first.fit.amplitudeVolts * Math.exp(alpha * 0.75 / ring.frequencyHz);
     const z0 = amplitudeAtStart / trace.turnOffCurrent;
     const fromRing = z0 / omega0;
     if (Number.isFinite(fromRing) && fromRing > L / 20 && fromRing < L * 20) L = fromRing;

@@ -96,9 +96,11 @@ describe('fit to degraded synthetic captures (issue 13 acceptance)', () => {
     expect(relativeError(fit.drainCapacitance.value, COSS)).toBeLessThan(0.02);
   }, 60_000);
 
-  it('a clamped board: the clamp variant is chosen, L and C within 2 %', () => {
+  it('a clamped board: the clamp variant is chosen, the free ring within 0.5 %, L and C within 2 %', () => {
     const capture = syntheticCapture(board({ clamp: true }), 'clamp', scope({ seed: 8, preTriggerFraction: 0.4 }));
     const ring = analyseRing(capture.timeSeconds, capture.volts);
+    // The free ring after the clamp lets go is the same series R-L-C ring.
+    expect(relativeError(ring.frequencyHz, closedFormRing(L, COSS + CW, R))).toBeLessThan(0.005);
     const fit = fitModel(poorGuess('495p', true), capture, ring);
     expect(fit.variant).toBe('clamp');
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
