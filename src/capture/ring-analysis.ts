@@ -75,7 +75,12 @@ export function analyseRing(timeSeconds: Float64Array, volts: Float64Array): Rin
     if (typeof outcome === 'string') skipped.push(`edge at ${edge.timeSeconds.toExponential(4)} s: ${outcome}`);
     else rings.push(outcome);
   }
-  if (rings.length === 0) throw new RingNotFound(`no usable ring after ${edges.length} turn-off edge(s): ${skipped.join('; ')}`);
+  if (rings.length === 0) {
+    const quiet = skipped.some((r) => r.includes('stand out of the noise'))
+      ? ' (a clamped drain rings little after the clamp lets go: capture the ring on a finer vertical scale, or with the clamp removed)'
+      : '';
+    throw new RingNotFound(`no usable ring after ${edges.length} turn-off edge(s): ${skipped.slice(0, 3).join('; ')}${skipped.length > 3 ? `; and ${skipped.length - 3} more` : ''}${quiet}`);
+  }
   const combine = (values: number[], sigmas: number[]): [number, number] => {
     const n = values.length;
     const mean = values.reduce((s, v) => s + v, 0) / n;
