@@ -60,7 +60,28 @@ describe('analyseRing on a switching waveform built from closed forms', () => {
     }
     const ring = analyseRing(t, v);
     expect(ring.edges.length).toBe(3);
+    expect(ring.rings.length).toBe(3);
     expect(Math.abs(ring.frequencyHz / f - 1)).toBeLessThan(1e-3);
     expect(Math.abs(ring.decayPerSecond / alpha - 1)).toBeLessThan(1e-3);
+  });
+});
+
+describe('turn-off edges', () => {
+  it('a ring valley that touches the low level and rises again is not a turn-off (its low stretch is short)', () => {
+    // Per 5 µs period: 2 µs low, a ring around 45 V of 30 V amplitude, then from 3.5 µs a slow
+    // ring around 30 V whose valleys touch 0 V for a few ns (valley switching in DCM), closed forms.
+    const period = 5e-6, dt = 1e-9, f = 9.7e6, alpha = 6e5, slow = 1.6e6;
+    const n = Math.round((3 * period) / dt);
+    const t = new Float64Array(n), v = new Float64Array(n);
+    for (let k = 0; k < n; k++) {
+      t[k] = k * dt;
+      const local = t[k]! % period;
+      if (local < 2e-6) v[k] = 0.2;
+      else if (local < 3.5e-6) v[k] = 45 + 30 * Math.exp(-alpha * (local - 2e-6)) * Math.sin(2 * Math.PI * f * (local - 2e-6));
+      else v[k] = Math.max(0.2, 30 + 32 * Math.cos(2 * Math.PI * slow * (local - 3.5e-6) + Math.PI));
+    }
+    const ring = analyseRing(t, v);
+    // The three turn-offs at 2, 7 and 12 µs, and none of the valley rises.
+    expect(ring.edges.map((e) => Math.round(e.timeSeconds * 1e6))).toEqual([2, 7, 12]);
   });
 });

@@ -76,6 +76,23 @@ describe('flyclamp fit (compiled CLI)', () => {
     }
   }, CLI_TIMEOUT_MS);
 
+  it('on a Coss curve: the key switch.drainCapacitanceScale, and --out scales every point by it', async () => {
+    const curve: Array<[number, number]> = [[0, 900e-12], [25, 420e-12], [100, 300e-12]];
+    const curveScenario = join(dir, 'curve.json');
+    await writeFile(curveScenario, JSON.stringify(boardJson('300n', 0, 0.5), (k, v: unknown) => (k === 'drainCapacitance' ? curve : v)));
+    const out = join(dir, 'fitted-curve.json');
+    const r = runCli(['fit', captureFile, curveScenario, '--column', 'CH1', '--json', '--out', out]);
+    expect(r.status).toBe(0);
+    const json = JSON.parse(r.stdout) as { fitted: Record<string, number>; uncertainty: Record<string, number> };
+    // Issue 13: "(or a scale on a curve: "switch.drainCapacitanceScale")".
+    expect(Object.keys(json.fitted).sort()).toEqual(['switch.drainCapacitanceScale', 'transformer.leakageInductance', 'transformer.primaryResistance']);
+    expect(Object.keys(json.uncertainty)).toContain('switch.drainCapacitanceScale');
+    const scale = json.fitted['switch.drainCapacitanceScale']!;
+    const written = JSON.parse(await readFile(out, 'utf8')) as { switch: { drainCapacitance: Array<[number, number]> } };
+    expect(written.switch.drainCapacitance.map(([v]) => v)).toEqual([0, 25, 100]);
+    written.switch.drainCapacitance.forEach(([, c], i) => expect(Math.abs(c / (curve[i]![1] * scale) - 1)).toBeLessThan(1e-12));
+  }, CLI_TIMEOUT_MS);
+
   it('refuses to write --out over an input, before any work, and leaves the input as it was', async () => {
     const before = await readFile(scenarioFile, 'utf8');
     const r = runCli(['fit', captureFile, scenarioFile, '--column', 'CH1', '--out', scenarioFile]);
