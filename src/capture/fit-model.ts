@@ -10,7 +10,8 @@
 // its decay α = R/(2L) (a series RLC ring: any circuits text).
 
 import type { CapacitanceCurve, Scenario, VariantName } from '../circuit/scenario.js';
-import { runVariant, SimulationFailure } from '../simulation/run-variant.js';
+import { runTraceTask, type TraceResult, type TraceTask } from './trace-task.js';
+import type { TracePool } from './trace-pool.js';
 import { cholesky, choleskySolve, inverseDiagonal, normalEquations } from './small-linear-algebra.js';
 import type { RingAnalysis } from './ring-analysis.js';
 import { SimulatedTrace } from './simulated-trace.js';
@@ -42,9 +43,18 @@ export interface FitOptions {
   maxSimulations?: number;
   /** Samples per edge window kept for the fit (strided beyond). */
   samplesPerEdge?: number;
+  /** Where the settled simulations run (default: this process, one after another). */
+  runner?: TraceRunner;
   /** Progress lines (each accepted step), for a person watching. */
   log?: (line: string) => void;
 }
+
+/** Runs a batch of settled simulations, in order of the tasks. */
+export type TraceRunner = (tasks: TraceTask[]) => Promise<TraceResult[]>;
+/** In this process, one after another. */
+export const runLocally: TraceRunner = async (tasks) => tasks.map(runTraceTask);
+/** Side by side on worker processes. */
+export const runOnPool = (pool: TracePool): TraceRunner => (tasks) => Promise.all(tasks.map((task) => pool.run(task)));
 
 /** Default budget of settled simulations for one fit. */
 export const MAX_FIT_SIMULATIONS = 40;
@@ -79,7 +89,7 @@ interface Evaluation {
   anchor: number;
 }
 
-export function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Array; volts: Float64Array }, ring: RingAnalysis, options: FitOptions = {}): ModelFit {
+export async function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Array; volts: Float64Array }, ring: RingAnalysis, options: FitOptions = {}): Promise<ModelFit> {
   const maxSimulations = options.maxSimulations ?? MAX_FIT_SIMULATIONS;
   const windows = captureWindows(capture, ring, options.samplesPerEdge ?? SAMPLES_PER_EDGE);
   const curve = typeof scenario.switch.drainCapacitance === 'number' ? null : scenario.switch.drainCapacitance;
@@ -90,26 +100,30 @@ export function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Arra
     recordedCycles: 2,
     samplesPerCycle: Math.min(50_000, Math.max(base.simulation.samplesPerCycle, Math.ceil(SIM_SAMPLES_PER_RING * ringPerCycle))),
   };
+  const runner = options.runner ?? runLocally;
   let simulations = 0;
-  const simulate = (s: Scenario, variant: VariantName): SimulatedTrace => {
-    if (simulations >= maxSimulations) throw new ModelFitFailed(`the fit needed more than ${maxSimulations} settled simulations`);
-    simulations++;
-    return new SimulatedTrace(runVariant(s, variant));
+  /** Runs settled simulations as one batch (side by side on a pool); null where one failed. */
+  const simulateMany = async (scenarios: Scenario[], variant: VariantName): Promise<Array<SimulatedTrace | string>> => {
+    if (simulations + scenarios.length > maxSimulations) throw new ModelFitFailed(`the fit needed more than ${maxSimulations} settled simulations`);
+    simulations += scenarios.length;
+    const results = await runner(scenarios.map((scenario) => ({ scenario, variant })));
+    return results.map((r) => (r.ok ? new SimulatedTrace(r.trace) : r.failure));
   };
 
   // Which variant the board is: with a clamp block, the one whose simulated peak is nearer the captured one.
   const capturedPeak = median(ring.rings.map((r) => capture.volts[r.peakIndex]!));
   let variant: ModelFit['variant'] = 'bare';
-  let startTrace: SimulatedTrace;
-  try {
-    startTrace = simulate(base, 'bare');
-    if (base.clamp) {
-      const clamped = simulate(base, 'clamp');
-      if (Math.abs(peakOf(clamped) - capturedPeak) < Math.abs(peakOf(startTrace) - capturedPeak)) { variant = 'clamp'; startTrace = clamped; }
-    }
-  } catch (error) {
-    if (error instanceof SimulationFailure) throw new ModelFitFailed(`the scenario as given does not simulate: ${error.message}`);
-    throw error;
+  const [bare, clamped] = await Promise.all([
+    simulateMany([base], 'bare'),
+    base.clamp ? simulateMany([base], 'clamp') : Promise.resolve([]),
+  ]);
+  let startTrace = bare[0]!;
+  if (typeof startTrace === 'string') throw new ModelFitFailed(`the scenario as given does not simulate (bare variant): ${startTrace}`);
+  const clampTrace = clamped[0];
+  if (typeof clampTrace === 'string') throw new ModelFitFailed(`the scenario as given does not simulate (clamp variant): ${clampTrace}`);
+  if (clampTrace && Math.abs(peakOf(clampTrace) - capturedPeak) < Math.abs(peakOf(startTrace) - capturedPeak)) {
+    variant = 'clamp';
+    startTrace = clampTrace;
   }
 
   const start = startValues(base, ring, startTrace, variant, curve);
@@ -121,30 +135,27 @@ export function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Arra
     return s;
   };
 
-  const evaluate = (theta: number[], warm: Evaluation | null): Evaluation | null => {
-    let trace: SimulatedTrace;
-    try {
-      trace = simulate(scenarioAt(theta), variant);
-    } catch (error) {
-      if (error instanceof SimulationFailure) return null;
-      throw error;
-    }
-    const anchor = warm?.anchor ?? trace.risingCrossing(ring.levels.midpointVolts);
-    if (!Number.isFinite(anchor)) return null;
-    return solveNuisance(trace, windows, theta, anchor, warm);
+  const evaluateMany = async (thetas: number[][], warm: Evaluation | null): Promise<Array<Evaluation | null>> => {
+    const traces = await simulateMany(thetas.map(scenarioAt), variant);
+    return traces.map((trace, i) => {
+      if (typeof trace === 'string') return null;
+      const anchor = warm?.anchor ?? trace.risingCrossing(ring.levels.midpointVolts);
+      if (!Number.isFinite(anchor)) return null;
+      return solveNuisance(trace, windows, thetas[i]!, anchor, warm);
+    });
   };
+  const evaluate = async (theta: number[], warm: Evaluation | null): Promise<Evaluation | null> => (await evaluateMany([theta], warm))[0]!;
 
   const log = options.log ?? ((): void => undefined);
   const describe = (e: Evaluation): string => `L ${Math.exp(e.theta[0]!).toExponential(4)} H, C ${Math.exp(e.theta[1]!).toExponential(4)}, R ${Math.exp(e.theta[2]!).toExponential(4)} Ω: rms ${Math.sqrt(e.cost / e.residual.length).toPrecision(4)} V`;
-  let current = evaluate(start, null);
+  let current = await evaluate(start, null);
   if (!current) throw new ModelFitFailed('the simulation at the starting values failed or never crossed the capture\'s midpoint');
   if (variant === 'clamp') {
     // With the clamp fitted the free ring's amplitude says little about Z0 (the clamp took the
     // leakage energy), so L·C is kept from the ring and L is scanned over a factor of 4 (√2 steps);
     // the clamp's conduction time, about L·Ioff/(Vc − VR), then tells the candidates apart.
-    for (const factor of [0.5, Math.SQRT1_2, Math.SQRT2, 2]) {
-      const ln = Math.log(factor);
-      const candidate = evaluate([start[0]! + ln, start[1]! - ln, start[2]! + ln], null);
+    const scan = [0.5, Math.SQRT1_2, Math.SQRT2, 2].map((factor) => Math.log(factor)).map((ln) => [start[0]! + ln, start[1]! - ln, start[2]! + ln]);
+    for (const candidate of await evaluateMany(scan, null)) {
       if (candidate && candidate.cost < current.cost) current = candidate;
     }
   }
@@ -152,51 +163,47 @@ export function fitModel(scenario: Scenario, capture: { timeSeconds: Float64Arra
   let lambda = 1e-3;
   let iterations = 0;
   let jacobian: Float64Array[] | null = null;
-  const jacobianAt = (e: Evaluation): Float64Array[] | null => {
-    const columns: Float64Array[] = [];
-    for (let i = 0; i < 3; i++) {
-      const theta = [...e.theta];
-      theta[i]! += DIFFERENCE_STEP;
-      const moved = evaluate(theta, e);
-      if (!moved) return null;
+  // Forward differences, the three simulations side by side.
+  const jacobianAt = async (e: Evaluation): Promise<Float64Array[] | null> => {
+    const thetas = [0, 1, 2].map((i) => e.theta.map((v, j) => (j === i ? v + DIFFERENCE_STEP : v)));
+    const moved = await evaluateMany(thetas, e);
+    if (moved.some((m) => m === null)) return null;
+    return moved.map((m) => {
       const column = new Float64Array(e.residual.length);
-      for (let k = 0; k < column.length; k++) column[k] = (moved.residual[k]! - e.residual[k]!) / DIFFERENCE_STEP;
-      columns.push(column);
-    }
-    return columns;
+      for (let k = 0; k < column.length; k++) column[k] = (m!.residual[k]! - e.residual[k]!) / DIFFERENCE_STEP;
+      return column;
+    });
   };
-  {
-    for (; iterations < 15; iterations++) {
-      // One Jacobian, one trial, and the final Jacobian for the uncertainty must fit in the budget.
-      if (simulations + 3 + 1 + 3 > maxSimulations) break;
-      jacobian = jacobianAt(current);
-      if (!jacobian) throw new ModelFitFailed('a simulation near the current values failed');
-      const { jtj, jtr } = normalEquations(jacobian, current.residual);
-      let accepted = false;
-      let converged = false;
-      for (let attempt = 0; attempt < 5 && !accepted && simulations + 3 < maxSimulations; attempt++) {
-        const damped = jtj.map((row, i) => row.map((v, j) => (i === j ? v * (1 + lambda) + 1e-300 : v)));
-        const l = cholesky(damped);
-        if (!l) { lambda *= 10; continue; }
-        const step = choleskySolve(l, jtr).map((d) => Math.max(-MAX_LOG_STEP, Math.min(MAX_LOG_STEP, -d)));
-        const trial = evaluate(current.theta.map((v, i) => v + step[i]!), current);
-        if (trial && trial.cost < current.cost) {
-          const drop = (current.cost - trial.cost) / current.cost;
-          current = trial;
-          log(`step ${iterations + 1}: ${describe(current)}`);
-          jacobian = null;
-          lambda = Math.max(lambda / 3, 1e-9);
-          accepted = true;
-          converged = drop < 1e-6 || Math.max(Math.abs(step[0]!), Math.abs(step[1]!)) < 2e-5;
-        } else {
-          lambda *= 4;
-        }
+  for (; iterations < 15; iterations++) {
+    // One Jacobian, one trial, and the final Jacobian for the uncertainty must fit in the budget.
+    if (simulations + 3 + 1 + 3 > maxSimulations) break;
+    jacobian = await jacobianAt(current);
+    if (!jacobian) throw new ModelFitFailed('a simulation near the current values failed');
+    const { jtj, jtr } = normalEquations(jacobian, current.residual);
+    let accepted = false;
+    let converged = false;
+    for (let attempt = 0; attempt < 5 && !accepted && simulations + 3 < maxSimulations; attempt++) {
+      const damped = jtj.map((row, i) => row.map((v, j) => (i === j ? v * (1 + lambda) + 1e-300 : v)));
+      const l = cholesky(damped);
+      if (!l) { lambda *= 10; continue; }
+      const step = choleskySolve(l, jtr).map((d) => Math.max(-MAX_LOG_STEP, Math.min(MAX_LOG_STEP, -d)));
+      const trial = await evaluate(current.theta.map((v, i) => v + step[i]!), current);
+      if (trial && trial.cost < current.cost) {
+        const drop = (current.cost - trial.cost) / current.cost;
+        current = trial;
+        log(`step ${iterations + 1}: ${describe(current)}`);
+        jacobian = null;
+        lambda = Math.max(lambda / 3, 1e-9);
+        accepted = true;
+        converged = drop < 1e-6 || Math.max(Math.abs(step[0]!), Math.abs(step[1]!)) < 2e-5;
+      } else {
+        lambda *= 4;
       }
-      if (!accepted || converged) { iterations++; break; }
     }
+    if (!accepted || converged) { iterations++; break; }
   }
   // The uncertainty needs the Jacobian at the final point (three simulations were kept for it).
-  if (!jacobian) jacobian = jacobianAt(current);
+  if (!jacobian) jacobian = await jacobianAt(current);
   const n = current.residual.length;
   const dof = Math.max(1, n - 3 - windows.edges - 1);
   const variance = current.cost / dof;

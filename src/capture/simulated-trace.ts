@@ -4,7 +4,7 @@
 // interpolation error far below a scope's resolution at the tens of samples per ring the fit asks
 // for, and gives the slope the time-shift parameters need.
 
-import type { VariantRun } from '../simulation/run-variant.js';
+import type { TraceData } from './trace-task.js';
 
 export class SimulatedTrace {
   readonly stepSeconds: number;
@@ -14,13 +14,11 @@ export class SimulatedTrace {
   /** Primary current when it opened, A. */
   readonly turnOffCurrent: number;
 
-  constructor(run: VariantRun) {
-    const w = run.recorder.waveform;
-    this.values = w.channels.drainVoltage;
-    this.stepSeconds = w.timeSeconds[1]! - w.timeSeconds[0]!;
-    const first = run.recorder.cycles[0]!;
-    this.turnOffSeconds = first.turnOffSeconds;
-    this.turnOffCurrent = first.turnOffCurrent;
+  constructor(data: TraceData) {
+    this.values = Float64Array.from(data.values);
+    this.stepSeconds = data.stepSeconds;
+    this.turnOffSeconds = data.turnOffSeconds;
+    this.turnOffCurrent = data.turnOffCurrent;
   }
 
   get endSeconds(): number { return (this.values.length - 1) * this.stepSeconds; }

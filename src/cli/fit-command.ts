@@ -8,7 +8,9 @@ import { formatSi, parseSiNumber } from '../circuit/si-number.js';
 import { scenarioToJson } from '../circuit/scenario-json.js';
 import { CaptureError, readCapture, type Capture } from '../capture/read-capture.js';
 import { analyseRing, RingNotFound, type RingAnalysis } from '../capture/ring-analysis.js';
-import { fitModel, ModelFitFailed, type ModelFit } from '../capture/fit-model.js';
+import { fitModel, ModelFitFailed, runLocally, runOnPool, type ModelFit } from '../capture/fit-model.js';
+import { createTracePool } from '../capture/trace-pool.js';
+import { availableParallelism } from 'node:os';
 import { extractFromAddedCapacitor } from '../equations/ring-extraction.js';
 import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
@@ -19,7 +21,11 @@ export interface FitCommandOptions {
   addedCapacitance?: string;
   json?: boolean;
   out?: string;
+  workers?: string;
 }
+
+/** Most worker processes for a fit: a Jacobian is three simulations side by side. */
+const MAX_FIT_WORKERS = 3;
 
 /** The `fit --json` shape (issue 13: other tools read these names). */
 export interface FitJson {
@@ -45,6 +51,11 @@ export async function runFitCommand(captureFile: string, scenarioFile: string, o
     if (!parsed.ok || !(parsed.value > 0)) throw new BadInput(`--added-capacitance: expected a positive capacitance such as 100p or 100pF, found ${options.addedCapacitance}`);
     addedCapacitance = parsed.value;
   }
+  let workers = Math.min(MAX_FIT_WORKERS, availableParallelism());
+  if (options.workers !== undefined) {
+    if (!/^\s*\d+\s*$/.test(options.workers) || Number(options.workers) > 64) throw new BadInput(`--workers: expected a whole number from 0 to 64, found ${options.workers}`);
+    workers = Math.min(MAX_FIT_WORKERS, Number(options.workers));
+  }
   const inputs = [captureFile, scenarioFile, ...(options.withCapacitor ? [options.withCapacitor] : [])];
   if (options.out) await outputFor('--out', () => checkOutputPath(options.out!, inputs));
 
@@ -55,11 +66,14 @@ export async function runFitCommand(captureFile: string, scenarioFile: string, o
   const capture = await captureFrom(captureFile, options.column);
   const ring = ringOf(captureFile, capture);
   let fit: ModelFit;
+  const pool = workers > 0 ? createTracePool(workers) : null;
   try {
-    fit = fitModel(loaded.scenario, capture, ring);
+    fit = await fitModel(loaded.scenario, capture, ring, { runner: pool ? runOnPool(pool) : runLocally });
   } catch (error) {
     if (error instanceof ModelFitFailed) throw new SimulationFailed(error.message);
     throw error;
+  } finally {
+    await pool?.destroy();
   }
 
   let added: FitJson['addedCapacitor'];

@@ -43,6 +43,7 @@ program.command('fit')
   .option('--added-capacitance <C>', 'that capacitor, F (SI prefixes: 100p)')
   .option('--json', 'print one JSON object instead of the table')
   .option('--out <fitted.json>', 'write the fitted scenario (never over an input)')
+  .option('--workers <n>', 'worker processes for the simulations (default: one per core, at most 3; 0: this process only)')
   .action(async (capture: string, scenario: string, options: FitCommandOptions) => {
     await runFitCommand(capture, scenario, options);
   });

@@ -51,7 +51,7 @@ describe('fit to degraded synthetic captures (issue 13 acceptance)', () => {
     const read = await readCapture(file, { column: 'CH1' });
     const ring = analyseRing(read.timeSeconds, read.volts);
     expect(relativeError(ring.frequencyHz, closedFormRing(L, COSS + CW, R))).toBeLessThan(0.005);
-    const fit = fitModel(poorGuess(), read, ring);
+    const fit = await fitModel(poorGuess(), read, ring);
     expect(fit.variant).toBe('bare');
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
     expect(fit.drainCapacitance.kind).toBe('constant');
@@ -71,37 +71,37 @@ describe('fit to degraded synthetic captures (issue 13 acceptance)', () => {
     const read = await readCapture(file);
     const ring = analyseRing(read.timeSeconds, read.volts);
     expect(relativeError(ring.frequencyHz, closedFormRing(L, COSS + CW, R))).toBeLessThan(0.005);
-    const fit = fitModel(poorGuess(), read, ring);
+    const fit = await fitModel(poorGuess(), read, ring);
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
     expect(relativeError(fit.drainCapacitance.value, COSS)).toBeLessThan(0.02);
   }, 60_000);
 
-  it('a Coss curve: the fitted scale on every point within 2 % of the true 1.3, L within 2 %', () => {
+  it('a Coss curve: the fitted scale on every point within 2 % of the true 1.3, L within 2 %', async () => {
     const curve: Array<[number, number]> = [[0, 1.1e-9], [25, 250e-12], [100, 120e-12]];
     const truth = board({ coss: curve.map(([v, c]) => [v, 1.3 * c]) });
     const capture = syntheticCapture(truth, 'bare', scope({ preTriggerFraction: 0.45, sampleIntervalSeconds: 1.913e-9, offsetVolts: -0.5, seed: 5 }));
     const ring = analyseRing(capture.timeSeconds, capture.volts);
-    const fit = fitModel(poorGuess(curve), capture, ring);
+    const fit = await fitModel(poorGuess(curve), capture, ring);
     expect(fit.drainCapacitance.kind).toBe('curve-scale');
     expect(relativeError(fit.drainCapacitance.value, 1.3)).toBeLessThan(0.02);
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
   }, 60_000);
 
-  it('fixed duty in DCM, where the turn-off current itself depends on C: L and C within 2 %', () => {
+  it('fixed duty in DCM, where the turn-off current itself depends on C: L and C within 2 %', async () => {
     const capture = syntheticCapture(board({ fixedDuty: true }), 'bare', scope({ seed: 13, preTriggerFraction: 0.35 }));
     const ring = analyseRing(capture.timeSeconds, capture.volts);
     const start = board({ fixedDuty: true, leakage: '300n', coss: '495p', resistance: 0.5 });
-    const fit = fitModel(start, capture, ring);
+    const fit = await fitModel(start, capture, ring);
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
     expect(relativeError(fit.drainCapacitance.value, COSS)).toBeLessThan(0.02);
   }, 60_000);
 
-  it('a clamped board: the clamp variant is chosen, the free ring within 0.5 %, L and C within 2 %', () => {
+  it('a clamped board: the clamp variant is chosen, the free ring within 0.5 %, L and C within 2 %', async () => {
     const capture = syntheticCapture(board({ clamp: true }), 'clamp', scope({ seed: 8, preTriggerFraction: 0.4 }));
     const ring = analyseRing(capture.timeSeconds, capture.volts);
     // The free ring after the clamp lets go is the same series R-L-C ring.
     expect(relativeError(ring.frequencyHz, closedFormRing(L, COSS + CW, R))).toBeLessThan(0.005);
-    const fit = fitModel(poorGuess('495p', true), capture, ring);
+    const fit = await fitModel(poorGuess('495p', true), capture, ring);
     expect(fit.variant).toBe('clamp');
     expect(relativeError(fit.leakageInductance.value, L)).toBeLessThan(0.02);
     expect(relativeError(fit.drainCapacitance.value, COSS)).toBeLessThan(0.02);

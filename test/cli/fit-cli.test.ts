@@ -107,6 +107,7 @@ describe('flyclamp fit (compiled CLI)', () => {
     [['--column', 'CH1', '--with-capacitor', 'x.csv'], /--with-capacitor: expected together with --added-capacitance/],
     [['--column', 'CH1', '--added-capacitance', '1n'], /--added-capacitance: expected together with --with-capacitor/],
     [['--column', 'CH1', '--with-capacitor', 'x.csv', '--added-capacitance', '10 apples'], /--added-capacitance: expected a positive capacitance .* found 10 apples/],
+    [['--column', 'CH1', '--workers', 'many'], /--workers: expected a whole number from 0 to 64, found many/],
   ])('bad flags %j: exit 2, the flag named, no stack trace', (flags, message) => {
     const r = runCli(['fit', captureFile, scenarioFile, ...flags]);
     expect(r.status).toBe(2);
