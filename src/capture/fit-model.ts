@@ -1,8 +1,9 @@
 // Fits the scenario's leakage inductance, drain capacitance (a constant, or a scale on a curve) and
 // primary resistance to a captured drain waveform: least squares over the off-time after each
-// turn-off edge (the ring and what follows it), the simulated settled waveform aligned at each edge. The three circuit values are fitted
-// by Levenberg–Marquardt on their logarithms (positive, and steps in proportion) with a
-// forward-difference Jacobian, one settled simulation per column; the nuisance parameters (a time
+// turn-off edge (the ring and what follows it), the simulated settled waveform aligned at each
+// edge. The three circuit values are fitted by Levenberg–Marquardt on their logarithms (positive,
+// and steps in proportion) with a forward-difference Jacobian, one settled simulation per column
+// (run side by side when a pool is given); the nuisance parameters (a time
 // shift per edge and a voltage offset of the capture) are solved for each simulation by
 // Gauss–Newton, which makes the outer problem the variable-projection one (Golub & Pereyra, SIAM J.
 // Numer. Anal. 10(2), 1973) and costs no simulation. The start comes from the ring itself:

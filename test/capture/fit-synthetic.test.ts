@@ -62,6 +62,10 @@ describe('fit to degraded synthetic captures (issue 13 acceptance)', () => {
     // quantisation error's rms, e.g. Widrow & Kollár, "Quantization Noise", 2008), within 20 %.
     expect(fit.residualRmsVolts).toBeLessThan(1.2 * Math.hypot(0.2, 100 / 256 / Math.sqrt(12)));
     expect(fit.simulations).toBeLessThanOrEqual(40);
+    // The stated one-sigma uncertainty (linearised covariance) covers the actual error: 4σ, as a
+    // normal deviate exceeds 4σ with probability 6e-5.
+    expect(Math.abs(fit.leakageInductance.value - L)).toBeLessThan(4 * fit.leakageInductance.sigma);
+    expect(Math.abs(fit.drainCapacitance.value - COSS)).toBeLessThan(4 * fit.drainCapacitance.sigma);
   }, 60_000);
 
   it('constant Coss, semicolon CSV with decimal comma and µs, 50 % pre-trigger, more noise, another rate', async () => {
