@@ -19,6 +19,19 @@ export function unitInName(name: string): number | undefined {
   return unit === undefined ? undefined : timeUnitSeconds(unit);
 }
 
+/** Volts per voltage unit. */
+const VOLTAGE_UNITS: Readonly<Record<string, number>> = { uv: 1e-6, 'µv': 1e-6, mv: 1e-3, v: 1, kv: 1e3 };
+
+export function voltageUnitVolts(unit: string): number | undefined {
+  return VOLTAGE_UNITS[unit.trim().toLowerCase().replace(/^μ/, 'µ')];
+}
+
+/** A voltage unit written in a column name: "CH1 (mV)", "Drain [V]". */
+export function voltageUnitInName(name: string): number | undefined {
+  const m = /[([]\s*([a-zµμ]+)\s*[)\]]/i.exec(name);
+  return m ? voltageUnitVolts(m[1]!) : undefined;
+}
+
 export interface HeaderInfo {
   /** Seconds between samples, from the header. */
   sampleIntervalSeconds?: number;
@@ -26,12 +39,15 @@ export interface HeaderInfo {
   startSeconds?: number;
   /** Unit of the time column, seconds per unit. */
   timeUnitSeconds?: number;
+  /** Unit of the voltage columns, volts per unit. */
+  voltageUnitVolts?: number;
 }
 
 const INTERVAL_KEY = /^(sample\s*interval|sampling\s*(interval|period)|x\s*increment|xincr?|time\s*(step|increment|interval|resolution)|dt|horizontal\s*resolution)$/i;
 const RATE_KEY = /^(sample\s*rate|sampling\s*rate|sa\s*rate)$/i;
 const START_KEY = /^(x\s*origin|xorigin|xzero|start\s*time|t0|x\s*start|horizontal\s*offset)$/i;
 const TIME_UNIT_KEY = /^((time|horizontal|x)[\s_-]*units?)$/i;
+const VOLTAGE_UNIT_KEY = /^((vertical|voltage|y)[\s_-]*units?)$/i;
 
 /** A value with an optional unit: "4e-10", "0,4 ns", "2.5 GS/s", "1GSa/s", "500 MHz". */
 const VALUE = /^\s*([+-]?(?:\d+[.,]?\d*|[.,]\d+)(?:[eE][+-]?\d+)?)\s*([a-zA-Zµμ/]*)\s*$/;
@@ -56,6 +72,11 @@ export function readHeaderLine(fields: readonly string[], info: HeaderInfo): voi
   if (TIME_UNIT_KEY.test(key)) {
     const unit = timeUnitSeconds(raw);
     if (unit !== undefined) info.timeUnitSeconds = unit;
+    return;
+  }
+  if (VOLTAGE_UNIT_KEY.test(key)) {
+    const unit = voltageUnitVolts(raw);
+    if (unit !== undefined) info.voltageUnitVolts = unit;
     return;
   }
   const parsed = valueWithUnit(raw);

@@ -7,7 +7,7 @@
 import { createReadStream } from 'node:fs';
 import { stat } from 'node:fs/promises';
 import { StringDecoder } from 'node:string_decoder';
-import { INDEX_NAME, TIME_NAME, readHeaderLine, unitInName, type HeaderInfo } from './capture-header.js';
+import { INDEX_NAME, TIME_NAME, readHeaderLine, unitInName, voltageUnitInName, type HeaderInfo } from './capture-header.js';
 import { MAX_CAPTURE_BYTES, MAX_CAPTURE_SAMPLES, MAX_COLUMNS, MAX_LINE_CHARS } from './capture-limits.js';
 
 /** A capture that cannot be read; `flag` names the command-line flag at fault, if one is. */
@@ -65,6 +65,8 @@ const bareName = (s: string): string => unquote(s).replace(/\s*[([].*?[)\]]\s*/g
 interface Layout {
   timeColumn: number | null;
   timeScale: number;
+  /** Volts per unit of the drain column (a unit in its name, else the header's, else V). */
+  voltScale: number;
   interval: number;
   start: number;
   drainColumn: number;
@@ -108,8 +110,9 @@ function decideLayout(fieldCount: number, names: string[] | null, info: HeaderIn
     drainColumn = found;
   }
   const timeScale = timeColumn === null ? 1 : (names ? unitInName(unquote(names[0]!)) : undefined) ?? info.timeUnitSeconds ?? 1;
+  const voltScale = (names ? voltageUnitInName(unquote(names[drainColumn]!)) : undefined) ?? info.voltageUnitVolts ?? 1;
   return {
-    timeColumn, timeScale, interval: interval ?? NaN, start: info.startSeconds ?? 0,
+    timeColumn, timeScale, voltScale, interval: interval ?? NaN, start: info.startSeconds ?? 0,
     drainColumn, columnName: nameOf(drainColumn), voltageColumns, fieldCount,
   };
 }
@@ -194,7 +197,7 @@ export async function readCapture(file: string, options: ReadCaptureOptions = {}
     if (count >= maxSamples) throw new CaptureError(`more than ${maxSamples} samples; captures are read up to ${maxSamples} samples (decimate on the scope, or export a shorter record)`);
     grow(count + 1);
     time[count] = t;
-    volts[count] = v;
+    volts[count] = v * layout.voltScale;
     count++;
   };
 

@@ -75,6 +75,13 @@ describe('readCapture layouts', () => {
     expect(values(c.volts)).toEqual([1, 2, 4]);
   });
 
+  it('voltages in mV, stated in the column name or in the header', async () => {
+    const named = await readCapture(await file('Time (s),CH1 (mV)\n0,1500\n1e-9,-250\n'));
+    expect(values(named.volts)).toEqual([1.5, -0.25]);
+    const header = await readCapture(await file('Vertical Units,mV\nTime,CH1\n0,1500\n1e-9,-250\n'));
+    expect(values(header.volts)).toEqual([1.5, -0.25]);
+  });
+
   it('tab-separated, a header-stated time unit (ns), a trailing separator, a byte-order mark and no names', async () => {
     const c = await readCapture(await file('\uFEFFHorizontal Units\tns\n0\t1\t\n1\t2\t\n2\t3\t\n'));
     expect(c.timeSeconds[2]).toBeCloseTo(2e-9, 20);
