@@ -6,6 +6,7 @@ import { runSimulateCommand } from './simulate-command.js';
 import { DEFAULT_PORT, runServeCommand } from './serve-command.js';
 import { runSweepCommand, type SweepOptions } from './sweep-command.js';
 import { runDesignCommand } from './design-command.js';
+import { runFitCommand, type FitCommandOptions } from './fit-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
 
 const program = new Command('flyclamp')
@@ -31,6 +32,20 @@ program.command('design')
   .option('--report <file.html>', 'write a self-contained HTML report')
   .action(async (file: string, options: { json?: boolean; report?: string }) => {
     await runDesignCommand(file, options);
+  });
+
+program.command('fit')
+  .description('fit the leakage inductance, drain capacitance and winding resistance to a scope capture of the drain')
+  .argument('<capture>', 'oscilloscope CSV export of the drain voltage')
+  .argument('<scenario>', 'scenario JSON file')
+  .option('--column <name|index>', 'the drain column when the capture has several (a name, or its position counting the time column as 1)')
+  .option('--with-capacitor <capture2>', 'a second capture with a known capacitor added across drain and source')
+  .option('--added-capacitance <C>', 'that capacitor, F (SI prefixes: 100p)')
+  .option('--json', 'print one JSON object instead of the table')
+  .option('--out <fitted.json>', 'write the fitted scenario (never over an input)')
+  .option('--workers <n>', 'worker processes for the simulations (default: one per core, at most 3; 0: this process only)')
+  .action(async (capture: string, scenario: string, options: FitCommandOptions) => {
+    await runFitCommand(capture, scenario, options);
   });
 
 const collect = (value: string, previous: string[]): string[] => [...previous, value];

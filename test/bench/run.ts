@@ -12,6 +12,7 @@ import { withIdealParts } from '../../src/model/ideal-parts.js';
 import { availableParallelism } from 'node:os';
 import { scenarioToJson } from '../../src/circuit/scenario-json.js';
 import { gridPoints } from '../../src/study/study-points.js';
+import { fitBench } from './fit-capture.js';
 // The compiled study runner (npm run bench builds first), so that its workers load compiled code
 // as the CLI's do: under tsx each worker would first load and transpile the sources.
 const compiledStudy = '../../dist/study/run-study.js';
@@ -125,4 +126,5 @@ let allMet = true;
 for (const file of files) allMet = (await scenarioBench(file)).ok && allMet;
 allMet = memoryBench() && allMet;
 allMet = (await sweepBench()) && allMet;
+allMet = (await fitBench()) && allMet;
 console.log(`\n${allMet ? 'all targets met' : 'some targets MISSED'}`);
