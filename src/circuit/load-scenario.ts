@@ -1,21 +1,49 @@
-import { readFile } from 'node:fs/promises';
+import { open } from 'node:fs/promises';
 import { validateScenario, type ValidationIssue, type ValidationResult } from './validate-scenario.js';
+import { checkInputLimits } from './input-limits.js';
 
-/** Reads and validates a scenario file; unreadable files and bad JSON become issues too. */
-export async function loadScenarioFile(file: string): Promise<ValidationResult & { raw?: unknown }> {
+/** A scenario file is a few kB; the cap matches the HTTP body limit, so both edges accept the same. */
+export const MAX_SCENARIO_FILE_BYTES = 256 * 1024;
+
+type Loaded = ValidationResult & { raw?: unknown };
+const refused = (path: string, message: string): Loaded => ({ ok: false, issues: [{ path, message }] });
+
+/** Reads and validates a scenario file; unreadable, oversized and malformed files become issues too. */
+export async function loadScenarioFile(file: string): Promise<Loaded> {
   let text: string;
   try {
-    text = await readFile(file, 'utf8');
+    // Opened once and checked through the handle, so the file checked is the file read; a FIFO or
+    // a device (/dev/zero) would block or never end, so only regular files are read.
+    const handle = await open(file, 'r');
+    try {
+      const info = await handle.stat();
+      if (!info.isFile()) return refused(file, `expected a regular scenario file, found ${info.isDirectory() ? 'a directory' : 'a special file (device, FIFO or socket)'}`);
+      if (info.size > MAX_SCENARIO_FILE_BYTES) return refused(file, `expected a scenario file of at most ${MAX_SCENARIO_FILE_BYTES / 1024} kB, found ${Math.ceil(info.size / 1024)} kB`);
+      text = await handle.readFile('utf8');
+    } finally {
+      await handle.close();
+    }
   } catch (error) {
     const code = (error as NodeJS.ErrnoException).code ?? 'unknown error';
-    return { ok: false, issues: [{ path: file, message: `expected a readable scenario file, found ${code}` }] };
+    return refused(file, `expected a readable scenario file, found ${code}`);
   }
   let raw: unknown;
   try {
     raw = JSON.parse(text);
   } catch (error) {
-    const issue: ValidationIssue = { path: file, message: `expected JSON, found a syntax error: ${(error as Error).message}` };
-    return { ok: false, issues: [issue] };
+    return { ok: false, issues: [jsonSyntaxIssue(file, text, (error as Error).message)] };
   }
+  const limits = checkInputLimits(raw, '');
+  if (limits.length > 0) return { ok: false, issues: limits };
   return { ...validateScenario(raw), raw };
+}
+
+/** The syntax error with its line and column, so the message points at the place to fix. */
+function jsonSyntaxIssue(file: string, text: string, message: string): ValidationIssue {
+  const position = /position (\d+)/.exec(message)?.[1];
+  if (position === undefined) return { path: file, message: `expected JSON, found a syntax error: ${message}` };
+  const before = text.slice(0, Number(position));
+  const line = before.split('\n').length;
+  const column = before.length - before.lastIndexOf('\n');
+  return { path: `${file}:${line}:${column}`, message: `expected JSON, found a syntax error: ${message.replace(/ in JSON at position \d+.*$/, '')}` };
 }

@@ -7,6 +7,7 @@ import { DEFAULT_PORT, runServeCommand } from './serve-command.js';
 import { runSweepCommand, type SweepOptions } from './sweep-command.js';
 import { runDesignCommand } from './design-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
+import { DEFAULT_MAX_SECONDS } from './work-limits.js';
 
 const program = new Command('flyclamp')
   .description('Settled switching-node simulator for flyback RCD clamps and RC dampers')
@@ -20,7 +21,8 @@ program.command('simulate')
   .option('--json', 'print one JSON object instead of the table')
   .option('--csv <file>', 'write the settled waveforms as CSV')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
-  .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped' }) => {
+  .option('--max-seconds <s>', `work budget: refuse a run estimated over it, stop one that runs over it (default ${DEFAULT_MAX_SECONDS})`)
+  .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped'; maxSeconds?: string }) => {
     await runSimulateCommand(file, options);
   });
 
@@ -29,7 +31,8 @@ program.command('design')
   .argument('<file>', 'scenario JSON file (with an optional "design" block)')
   .option('--json', 'print one JSON object instead of the table')
   .option('--report <file.html>', 'write a self-contained HTML report')
-  .action(async (file: string, options: { json?: boolean; report?: string }) => {
+  .option('--max-seconds <s>', `work budget of the whole design (default ${DEFAULT_MAX_SECONDS})`)
+  .action(async (file: string, options: { json?: boolean; report?: string; maxSeconds?: string }) => {
     await runDesignCommand(file, options);
   });
 
@@ -46,6 +49,7 @@ program.command('sweep')
   .option('--csv <file>', 'write one row per point')
   .option('--workers <n>', 'worker processes (default: one per core; 0: this process only)')
   .option('--progress', 'report progress even when stderr is not a terminal (one line per point)')
+  .option('--max-seconds <s>', `work budget of each point's variant (default ${DEFAULT_MAX_SECONDS})`)
   .action(async (file: string, options: SweepOptions) => {
     await runSweepCommand(file, options);
   });
@@ -80,5 +84,14 @@ async function main(): Promise<number> {
   }
 }
 
-const code = await main();
-if (code !== 0) process.exit(code);
+// A reader that stops early (`| head`) closes the pipe: stop writing, without a stack trace.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (error: NodeJS.ErrnoException) => {
+    if (error.code !== 'EPIPE') throw error;
+    process.exitCode ||= 1;
+  });
+}
+
+// Set, not process.exit(): exiting at once would cut stdout and stderr at 64 kB when they are
+// pipes (the rest is still queued); the process ends by itself once they have drained.
+process.exitCode = await main();

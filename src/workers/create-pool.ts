@@ -4,7 +4,12 @@
 import { Piscina } from 'piscina';
 import { availableParallelism } from 'node:os';
 
-export interface PoolOptions { maxThreads?: number; idleTimeoutMs?: number }
+export interface PoolOptions {
+  maxThreads?: number;
+  idleTimeoutMs?: number;
+  /** Old-generation heap ceiling per worker thread, MB: a worker over it dies alone, the process lives. */
+  maxHeapMb?: number;
+}
 
 /** `callerUrl` is the caller's import.meta.url; the worker file sits beside it as `workerBaseName`.js (or .ts). */
 export function createPool<Task, Result>(callerUrl: string, workerBaseName: string, options: PoolOptions = {}): Piscina<Task, Result> {
@@ -16,6 +21,6 @@ export function createPool<Task, Result>(callerUrl: string, workerBaseName: stri
     minThreads: 0,
     maxThreads: options.maxThreads ?? Math.max(1, availableParallelism()),
     idleTimeout: options.idleTimeoutMs ?? 30_000,
-    resourceLimits: { maxYoungGenerationSizeMb: 128 },
+    resourceLimits: { maxYoungGenerationSizeMb: 128, ...(options.maxHeapMb ? { maxOldGenerationSizeMb: options.maxHeapMb } : {}) },
   });
 }
