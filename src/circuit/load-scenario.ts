@@ -1,4 +1,5 @@
-import { open } from 'node:fs/promises';
+import type { Stats } from 'node:fs';
+import { open, stat } from 'node:fs/promises';
 import { validateScenario, type ValidationIssue, type ValidationResult } from './validate-scenario.js';
 import { checkInputLimits } from './input-limits.js';
 
@@ -12,12 +13,17 @@ const refused = (path: string, message: string): Loaded => ({ ok: false, issues:
 export async function loadScenarioFile(file: string): Promise<Loaded> {
   let text: string;
   try {
-    // Opened once and checked through the handle, so the file checked is the file read; a FIFO or
-    // a device (/dev/zero) would block or never end, so only regular files are read.
+    // Only regular files are read: opening a FIFO blocks until a writer comes, and a device
+    // (/dev/zero) never ends. Checked by path before opening and through the handle after, so the
+    // file checked is the file read.
+    const kind = (info: Stats): string | undefined => (info.isFile() ? undefined : info.isDirectory() ? 'a directory' : 'a special file (device, FIFO or socket)');
+    const before = kind(await stat(file));
+    if (before) return refused(file, `expected a regular scenario file, found ${before}`);
     const handle = await open(file, 'r');
     try {
       const info = await handle.stat();
-      if (!info.isFile()) return refused(file, `expected a regular scenario file, found ${info.isDirectory() ? 'a directory' : 'a special file (device, FIFO or socket)'}`);
+      const after = kind(info);
+      if (after) return refused(file, `expected a regular scenario file, found ${after}`);
       if (info.size > MAX_SCENARIO_FILE_BYTES) return refused(file, `expected a scenario file of at most ${MAX_SCENARIO_FILE_BYTES / 1024} kB, found ${Math.ceil(info.size / 1024)} kB`);
       text = await handle.readFile('utf8');
     } finally {

@@ -94,4 +94,5 @@ for (const stream of [process.stdout, process.stderr]) {
 
 // Set, not process.exit(): exiting at once would cut stdout and stderr at 64 kB when they are
 // pipes (the rest is still queued); the process ends by itself once they have drained.
-process.exitCode = await main();
+const code = await main();
+if (code !== 0) process.exitCode = code; // else keep what a command set (130 for an interrupted sweep)
