@@ -33,6 +33,8 @@ export async function loadScenarioFile(file: string): Promise<Loaded> {
     const code = (error as NodeJS.ErrnoException).code ?? 'unknown error';
     return refused(file, `expected a readable scenario file, found ${code}`);
   }
+  // Editors on some systems start UTF-8 files with a byte-order mark; it is not part of the JSON.
+  if (text.startsWith('\ufeff')) text = text.slice(1);
   let raw: unknown;
   try {
     raw = JSON.parse(text);
@@ -45,7 +47,9 @@ export async function loadScenarioFile(file: string): Promise<Loaded> {
 }
 
 /** The syntax error with its line and column, so the message points at the place to fix. */
-function jsonSyntaxIssue(file: string, text: string, message: string): ValidationIssue {
+function jsonSyntaxIssue(file: string, text: string, parserMessage: string): ValidationIssue {
+  // The parser quotes a piece of the text, line breaks and all: one line per issue.
+  const message = parserMessage.replace(/\s+/g, ' ');
   const position = /position (\d+)/.exec(message)?.[1];
   if (position === undefined) return { path: file, message: `expected JSON, found a syntax error: ${message}` };
   const before = text.slice(0, Number(position));

@@ -42,7 +42,7 @@ export async function checkOutputPath(target: string, inputs: readonly string[])
   const targetPath = await canonical(target);
   for (const input of inputs) {
     if ((await canonical(input)) === targetPath) {
-      throw new OutputPathError(`${target}: refusing to overwrite an input file; choose another output name`);
+      throw new OutputPathError(`${target}: refusing to overwrite an input file: expected another output name, found the input itself`);
     }
   }
   await refuseNonRegular(target, targetPath);

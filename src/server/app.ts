@@ -2,7 +2,6 @@
 // worker pool so the request thread stays responsive; concurrency, body size and run time are capped.
 
 import express, { type NextFunction, type Request, type Response } from 'express';
-import type { Piscina } from 'piscina';
 import { readdir, readFile } from 'node:fs/promises';
 import { availableParallelism } from 'node:os';
 import { join, resolve } from 'node:path';
@@ -71,8 +70,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
   const runTimeCapMs = options.runTimeCapMs ?? 20_000;
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
   const slots = new RunSlots(maxConcurrentRuns, options.maxQueuedRuns ?? 8, options.maxQueueWaitMs ?? 10_000);
-  const makePool = (): Piscina<ServerTask, ServerTaskResult> => createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns, maxHeapMb: WORKER_HEAP_CEILING_MB });
-  let pool = makePool();
+  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns, maxHeapMb: WORKER_HEAP_CEILING_MB });
   // Sweeps run on worker processes, made on the first sweep (they scale better than threads) and
   // made again when the old ones stopped working.
   let studyPool: StudyPool | undefined;
@@ -115,12 +113,12 @@ export function createServer(given: ServerOptions): FlyclampServer {
       release();
     }
   }
-  /** A worker that died (killed, out of memory) fails its request with a clear status, and the pool is made anew. */
+  /**
+   * A worker that died (out of memory, killed) fails its request with a clear status; piscina
+   * starts a fresh thread in its place, and the other requests' runs go on.
+   */
   const workerFault = (error: unknown): HttpError => {
     const code = (error as { code?: string }).code;
-    const old = pool;
-    pool = makePool();
-    void old.destroy().catch(() => undefined);
     if (code === 'ERR_WORKER_OUT_OF_MEMORY') return new HttpError(503, `the run needed more memory than a worker's ceiling of ${WORKER_HEAP_CEILING_MB} MB; record fewer cycles or samples`);
     process.stderr.write(`flyclamp serve: a worker failed: ${(error as Error).message}\n`);
     return new HttpError(500, 'a simulation worker stopped unexpectedly; it has been replaced, try again');
