@@ -7,9 +7,10 @@ import type { NextFunction, Request, Response } from 'express';
 
 const HEADERS: Readonly<Record<string, string>> = {
   'X-Content-Type-Options': 'nosniff',
-  // Only the page's own files; plotly draws with inline style attributes set from script (allowed
-  // through the CSSOM) and exports images as data: URLs.
-  'Content-Security-Policy': "default-src 'self'; img-src 'self' data: blob:; object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'",
+  // Scripts, connections and everything else from the page's own origin only. Styles also inline:
+  // plotly inserts its modebar and hover rules as <style> elements (it ships no CSS file), and
+  // without them the plot's controls lose their layout. Plot export makes data: and blob: images.
+  'Content-Security-Policy': "default-src 'self'; style-src 'self' 'unsafe-inline'; img-src 'self' data: blob:; object-src 'none'; base-uri 'none'; form-action 'self'; frame-ancestors 'none'",
   'X-Frame-Options': 'DENY',
   'Referrer-Policy': 'no-referrer',
   'Cross-Origin-Opener-Policy': 'same-origin',

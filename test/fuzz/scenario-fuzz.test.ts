@@ -16,7 +16,7 @@ import { nonFinitePaths } from '../../src/analysis/result-checks.js';
 
 const root = fileURLToPath(new URL('../../', import.meta.url));
 const cli = join(root, 'dist', 'cli', 'main.js');
-const CLI_RUNS = Number(process.env.FLYCLAMP_FUZZ_RUNS ?? 12);
+const CLI_RUNS = Number(process.env.FLYCLAMP_FUZZ_RUNS ?? 30);
 const VALIDATOR_RUNS = Math.max(300, 10 * CLI_RUNS);
 /** Budget handed to each CLI run; a run past it (plus start-up) counts as a hang. */
 const RUN_SECONDS = 2;
