@@ -121,7 +121,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const code = (error as { code?: string }).code;
     if (code === 'ERR_WORKER_OUT_OF_MEMORY') return new HttpError(503, `the run needed more memory than a worker's ceiling of ${WORKER_HEAP_CEILING_MB} MB; record fewer cycles or samples`);
     process.stderr.write(`flyclamp serve: a worker failed: ${(error as Error).message}\n`);
-    return new HttpError(500, 'a simulation worker stopped unexpectedly; it has been replaced, try again');
+    return new HttpError(500, 'a simulation worker failed unexpectedly (the server log has the details); try again');
   };
   const failed = (failure: string, what = 'simulation'): HttpError => new HttpError(/time cap/.test(failure) ? 504 : 422, `${what} failed: ${failure}`);
 
