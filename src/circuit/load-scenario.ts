@@ -2,6 +2,7 @@ import type { Stats } from 'node:fs';
 import { open, stat } from 'node:fs/promises';
 import { validateScenario, type ValidationIssue, type ValidationResult } from './validate-scenario.js';
 import { checkInputLimits } from './input-limits.js';
+import { duplicateKeyIssues } from './duplicate-keys.js';
 
 /** A scenario file is a few kB; the cap matches the HTTP body limit, so both edges accept the same. */
 export const MAX_SCENARIO_FILE_BYTES = 256 * 1024;
@@ -41,7 +42,7 @@ export async function loadScenarioFile(file: string): Promise<Loaded> {
   } catch (error) {
     return { ok: false, issues: [jsonSyntaxIssue(file, text, (error as Error).message)] };
   }
-  const limits = checkInputLimits(raw, '');
+  const limits = [...checkInputLimits(raw, ''), ...duplicateKeyIssues(text)];
   if (limits.length > 0) return { ok: false, issues: limits };
   return { ...validateScenario(raw), raw };
 }

@@ -19,6 +19,7 @@ import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
 import { getNumberAt, scenarioToJson, type ScenarioJson } from '../circuit/scenario-json.js';
 import { drainDerating } from '../analysis/simulation-report.js';
 import { checkInputLimits } from '../circuit/input-limits.js';
+import { duplicateKeyIssues } from '../circuit/duplicate-keys.js';
 import { checkWorkBudget, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
 import { nonFinitePaths, soundVariants } from '../analysis/result-checks.js';
 import { Busy, RunSlots } from './admission.js';
@@ -54,6 +55,8 @@ export const MAX_STUDY_RECORDED_SAMPLES = 12_000_000;
 export const WORKER_HEAP_CEILING_MB = 512;
 /** Grace past a run's cap before the request gives up on its worker (thread start-up, reduction, transfer), ms. */
 const CAP_GRACE_MS = 10_000;
+
+type RawBodied = Request & { rawBody?: Buffer };
 
 class HttpError extends Error {
   constructor(readonly status: number, message: string, readonly issues?: ValidationIssue[]) { super(message); }
@@ -133,7 +136,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
   app.get('/api/health', (_req, res) => {
     res.json({ ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots } });
   });
-  app.use(express.json({ limit: options.bodyLimitBytes ?? 256 * 1024 }));
+  // The text is kept for the repeated-key scan (JSON.parse keeps the last of two equal keys silently).
+  app.use(express.json({ limit: options.bodyLimitBytes ?? 256 * 1024, verify: (req, _res, buf) => { (req as RawBodied).rawBody = buf; } }));
   // Before any handler reads the body: nesting and size limits, so no later step recurses or copies unbounded.
   app.use((req, _res, next) => {
     if (req.method !== 'POST' || req.body === undefined) { next(); return; }
@@ -142,6 +146,10 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const isObject = typeof body === 'object' && body !== null && !Array.isArray(body);
     const { scenario, ...rest } = isObject ? body as Record<string, unknown> : { scenario: undefined };
     const issues = [...checkInputLimits(isObject ? rest : body, 'body'), ...(scenario === undefined ? [] : checkInputLimits(scenario, ''))];
+    const raw = (req as RawBodied).rawBody;
+    if (issues.length === 0 && raw) {
+      issues.push(...duplicateKeyIssues(raw.toString('utf8'), 'body').map((i) => ({ ...i, path: i.path.replace(/^body\.scenario\./, '') })));
+    }
     next(issues.length > 0 ? new HttpError(400, 'invalid request', issues) : undefined);
   });
 

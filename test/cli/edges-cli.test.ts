@@ -76,6 +76,18 @@ describe('output paths are checked before any work', () => {
   }, CLI_TIMEOUT_MS);
 });
 
+describe('scenario files', () => {
+  it('a field given twice exits 2 naming it, rather than keeping the last value silently', async () => {
+    const text = (await readFile(join(root, 'scenarios', 'bias-48v.json'), 'utf8')).replace('"leakageInductance": "1.2u",', '"leakageInductance": "1.2u", "leakageInductance": "12u",');
+    const file = join(work, 'twice.json');
+    await writeFile(file, text, 'utf8');
+    const { status, stdout, stderr } = runCli(['simulate', file]);
+    expect(status).toBe(2);
+    expect(stdout).toBe('');
+    expect(stderr).toMatch(/^transformer\.leakageInductance: expected each field once in its block/m);
+  }, CLI_TIMEOUT_MS);
+});
+
 describe('the work budget', () => {
   it('a 150 Hz switch against a 10 MHz ring exits 1 before simulating, naming switch.frequency and --max-seconds', async () => {
     const doc = await demo('bias-48v');

@@ -109,6 +109,13 @@ describe('HTTP API: requests bounded before work starts', () => {
     expect((await issuesOf(res))[0]!.path).toMatch(/^switch\.frequency\[0\]/);
   });
 
+  it('answers 400 for a field given twice, in the scenario or in the body, naming it', async () => {
+    const scenario = JSON.stringify(await demo('bias-48v')).replace('"frequency":"200k"', '"frequency":"200k","frequency":"20k"');
+    const res = await postTo(s.base, '/api/simulate', `{"scenario": ${scenario}, "columns": 100, "columns": 200}`);
+    expect(res.status).toBe(400);
+    expect((await issuesOf(res)).map((i) => i.path)).toEqual(['switch.frequency', 'body.columns']);
+  });
+
   it('answers 400 for repeated or unknown variant names, before any run', async () => {
     const scenario = await demo('bias-48v');
     const repeated = await postTo(s.base, '/api/simulate', { scenario, variants: ['bare', 'clamp', 'bare'] });
