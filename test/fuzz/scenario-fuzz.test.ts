@@ -9,6 +9,7 @@ import { fileURLToPath } from 'node:url';
 import { validateScenario } from '../../src/circuit/validate-scenario.js';
 import { checkInputLimits } from '../../src/circuit/input-limits.js';
 import { nonFinitePaths } from '../../src/analysis/result-checks.js';
+import { parseSiNumber } from '../../src/circuit/si-number.js';
 
 // Property-based mutations of the demo scenarios. In `npm test` a few dozen runs keep the suite
 // under a minute; `npm run fuzz` sets FLYCLAMP_FUZZ_RUNS for a longer search. A failure prints
@@ -19,7 +20,7 @@ const cli = join(root, 'dist', 'cli', 'main.js');
 const CLI_RUNS = Number(process.env.FLYCLAMP_FUZZ_RUNS ?? 30);
 const VALIDATOR_RUNS = Math.max(300, 10 * CLI_RUNS);
 /** Budget handed to each CLI run; a run past it (plus start-up) counts as a hang. */
-const RUN_SECONDS = 2;
+const RUN_SECONDS = 3;
 const HANG_MS = 30_000;
 const STACK_FRAME = /\bat (?:async )?(?:[^\s()]+ )?\(?(?:file:\/\/|\/|[A-Za-z]:\\|node:)/;
 
@@ -33,6 +34,9 @@ const PATHS = [...new Set([
   'simulation.relativeTolerance', 'simulation.settleTolerance', 'simulation.maxCycles', 'simulation.recordedCycles', 'simulation.samplesPerCycle',
   'switch.maxDutyCycle', 'switch.bodyDiodeDrop', 'design.leakageTolerance', 'design.measuredRing', 'switch.frequncy', 'extra', 'clamp',
 ])];
+
+/** Leaf paths holding a number (or a prefixed number) in some demo. */
+const NUMERIC_PATHS = [...new Set(demos.flatMap((d) => leafPaths(d).filter((p) => parseSiNumber(getAt(d, p), '').ok)))];
 
 function leafPaths(node: unknown, prefix = ''): string[] {
   if (typeof node !== 'object' || node === null || Array.isArray(node)) return [prefix];
@@ -50,13 +54,25 @@ const replacement: fc.Arbitrary<unknown> = fc.oneof(
   fc.constantFrom(null, true, false), fc.array(fc.integer(), { maxLength: 5 }), fc.dictionary(fc.string({ maxLength: 8 }), fc.integer(), { maxKeys: 5 }),
   deep, fc.constant(' '.repeat(5000) + '1'),
 );
-const mutation = fc.record({ path: fc.constantFrom(...PATHS), value: fc.option(replacement, { nil: undefined, freq: 6 }) });
-const mutated = fc.record({ demo: fc.integer({ min: 0, max: demos.length - 1 }), mutations: fc.array(mutation, { minLength: 1, maxLength: 3 }) })
+/** A field's value replaced (or, as undefined, deleted): mostly invalid input. */
+const replace = fc.record({ path: fc.constantFrom(...PATHS), value: fc.option(replacement, { nil: undefined, freq: 6 }) })
+  .map(({ path, value }) => (doc: Doc): void => setAt(doc, path, value));
+/** A numeric field scaled by a power of ten or a factor near 1: mostly valid, often extreme, input. */
+const scale = fc.record({ path: fc.constantFrom(...NUMERIC_PATHS), exponent: fc.integer({ min: -6, max: 6 }), factor: fc.double({ min: 0.5, max: 2, noNaN: true }), nearOne: fc.boolean() })
+  .map(({ path, exponent, factor, nearOne }) => (doc: Doc): void => {
+    const parsed = parseSiNumber(getAt(doc, path), '');
+    if (parsed.ok) setAt(doc, path, parsed.value * (nearOne ? factor : 10 ** exponent));
+  });
+const mutated = fc.record({ demo: fc.integer({ min: 0, max: demos.length - 1 }), mutations: fc.array(fc.oneof({ arbitrary: scale, weight: 3 }, { arbitrary: replace, weight: 2 }), { minLength: 1, maxLength: 3 }) })
   .map(({ demo, mutations }) => {
     const doc = structuredClone(demos[demo]!);
-    for (const { path, value } of mutations) setAt(doc, path, value);
+    for (const mutate of mutations) mutate(doc);
     return doc;
   });
+
+function getAt(doc: Doc, path: string): unknown {
+  return path.split('.').reduce<unknown>((node, key) => (typeof node === 'object' && node !== null ? (node as Doc)[key] : undefined), doc);
+}
 
 /** Sets (or with undefined deletes) the value at a dotted path, making blocks on the way. */
 function setAt(doc: Doc, path: string, value: unknown): void {
@@ -71,7 +87,7 @@ function setAt(doc: Doc, path: string, value: unknown): void {
 }
 
 /** Text-level damage a parsed object cannot carry: duplicate keys, truncation, a byte-order mark. */
-const textOf = fc.constantFrom('plain', 'duplicate', 'truncate', 'bom').map((kind) => (doc: Doc): string => {
+const textOf = fc.oneof({ arbitrary: fc.constant('plain'), weight: 6 }, fc.constantFrom('duplicate', 'truncate', 'bom')).map((kind) => (doc: Doc): string => {
   const text = JSON.stringify(doc, null, 1);
   switch (kind) {
     case 'duplicate': return text.replace('"name":', '"name": "first", "name":');
@@ -110,14 +126,14 @@ describe('fuzz: mutated demo scenarios through the CLI', () => {
 
   it(`answers every one with exit 0, 1 or 2, a named field on 2, no stack trace, finite JSON on 0, and never writes over its input (${CLI_RUNS} runs)`, async () => {
     let case_ = 0;
-    await fc.assert(fc.asyncProperty(mutated, textOf, fc.constantFrom('none', 'fresh', 'input'), async (doc, render, csv) => {
+    await fc.assert(fc.asyncProperty(mutated, textOf, fc.oneof({ arbitrary: fc.constant('none'), weight: 3 }, { arbitrary: fc.constant('fresh'), weight: 2 }, fc.constant('input')), fc.constantFrom([], ['--variant', 'bare'], ['--variant', 'clamp'], ['--variant', 'damped']), async (doc, render, csv, variant) => {
       const dir = join(work, String(case_++));
       await import('node:fs/promises').then((fs) => fs.mkdir(dir));
       const input = join(dir, 'scenario.json');
       const text = render(doc);
       await writeFile(input, text, 'utf8');
       const csvArgs = csv === 'none' ? [] : ['--csv', csv === 'input' ? input : join(dir, 'out.csv')];
-      const result = spawnSync(process.execPath, [cli, 'simulate', input, '--json', '--max-seconds', String(RUN_SECONDS), ...csvArgs], { encoding: 'utf8', timeout: HANG_MS, maxBuffer: 64 * 1024 * 1024 });
+      const result = spawnSync(process.execPath, [cli, 'simulate', input, '--json', '--max-seconds', String(RUN_SECONDS), ...variant, ...csvArgs], { encoding: 'utf8', timeout: HANG_MS, maxBuffer: 64 * 1024 * 1024 });
       expect(result.error, 'the run hung past its budget').toBeUndefined();
       const { status, stdout, stderr } = result;
       expect([0, 1, 2], `exit ${status}; stderr: ${stderr.slice(0, 500)}`).toContain(status);
