@@ -3,6 +3,7 @@ import { getEventListeners } from 'node:events';
 import { readFile } from 'node:fs/promises';
 import { createStudyPool, runStudy, type StudyPool } from '../../src/study/run-study.js';
 import type { PointTask } from '../../src/study/point-task.js';
+import { ProcessPool } from '../../src/workers/process-pool.js';
 
 type Doc = Record<string, any>;
 const demo = async (id: string): Promise<Doc> => JSON.parse(await readFile(`scenarios/${id}.json`, 'utf8')) as Doc;
@@ -48,6 +49,15 @@ describe('ProcessPool', () => {
     await until(() => !alive(first!));
     expect(alive(first!)).toBe(false);
     expect((await pool.run(await quick())).ok).toBe(true);
+  }, 60_000);
+
+  it('gives up replacing children that die on start, rejects its tasks with the reason, and says it is broken', async () => {
+    const failing = new ProcessPool<PointTask, unknown>(new URL('./exits-at-once.ts', import.meta.url), 1);
+    try {
+      await until(() => failing.broken);
+      expect(failing.broken).toBe(true);
+      await expect(failing.run(await quick())).rejects.toThrow('the worker processes keep failing');
+    } finally { await failing.destroy(); }
   }, 60_000);
 
   it('removes its abort listener from the signal once each task is settled', async () => {
