@@ -52,12 +52,7 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   points.forEach((values, index) => {
     const at = validateScenario(scenarioAtPoint(base, values));
     if (!at.ok) return;
-    try {
-      enforceWorkBudget(at.scenario, 1, maxSeconds);
-    } catch (error) {
-      (error as Error).message = `at point ${index + 1} (${Object.entries(values).map(([p, v]) => `${p} = ${formatSi(v, unitOf(p))}`).join(', ')}), each variant: ${(error as Error).message}`;
-      throw error;
-    }
+    enforceWorkBudget(at.scenario, 1, maxSeconds, ` (at point ${index + 1}: ${Object.entries(values).map(([p, v]) => `${p} = ${formatSi(v, unitOf(p))}`).join(', ')}; the budget is per variant)`);
   });
 
   const abort = new AbortController();

@@ -2,7 +2,7 @@
 // deadline, so no scenario runs unbounded; `--max-seconds` lifts the budget.
 
 import type { Scenario } from '../circuit/scenario.js';
-import { checkWorkBudget } from '../analysis/work-budget.js';
+import { checkWorkBudget, type BudgetRefusal } from '../analysis/work-budget.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
 
 /** Default wall-time budget of one command, s: the demo scenarios take about a second. */
@@ -20,13 +20,14 @@ export function readMaxSeconds(text: string | undefined): number {
 
 /**
  * Refuses a run over the budget before it starts: too many recorded samples is bad input (exit 2,
- * the field to change); too much estimated time is a run that cannot finish (exit 1).
+ * the field to change); too much estimated time is a run that cannot finish (exit 1). `where`
+ * follows each message (which sweep point it is).
  */
-export function enforceWorkBudget(scenario: Scenario, variantCount: number, maxSeconds: number): void {
+export function enforceWorkBudget(scenario: Scenario, variantCount: number, maxSeconds: number, where = ''): void {
   const refusals = checkWorkBudget(scenario, variantCount, maxSeconds, (needed) => `pass --max-seconds ${needed} to run it anyway`);
-  const samples = refusals.filter((r) => r.kind === 'recorded-samples');
-  if (samples.length > 0) throw new BadInput(samples.map((r) => `${r.path}: ${r.message}`).join('\n'));
-  if (refusals.length > 0) throw new SimulationFailed(`over the work budget\n${refusals.map((r) => `${r.path}: ${r.message}`).join('\n')}`);
+  const lines = (kind: BudgetRefusal['kind']): string => refusals.filter((r) => r.kind === kind).map((r) => `${r.path}: ${r.message}${where}`).join('\n');
+  if (lines('recorded-samples')) throw new BadInput(lines('recorded-samples'));
+  if (lines('time')) throw new SimulationFailed(`over the work budget\n${lines('time')}`);
 }
 
 /** A failure message with the budget named when the deadline stopped the run. */

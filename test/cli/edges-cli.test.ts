@@ -151,6 +151,13 @@ describe('output through pipes', () => {
 });
 
 describe('flyclamp sweep', () => {
+  it('checks every point against the work budget before any runs, naming the point and the value', () => {
+    const { status, stdout, stderr } = runCli(['sweep', 'scenarios/bias-48v.json', '--vary', 'switch.frequency=200..200k:3', '--workers', '0']);
+    expect(status).toBe(1);
+    expect(stdout).toBe('');
+    expect(stderr).toMatch(/^switch\.frequency: expected a scenario that runs within 120 s, found 200 Hz .*\(at point 1: switch\.frequency = 200 Hz; the budget is per variant\)$/m);
+  }, CLI_TIMEOUT_MS);
+
   it('reports the base scenario\'s rating and derated limit, not the last point\'s', async () => {
     const { status, stdout } = runCli(['sweep', 'scenarios/bias-48v.json', '--vary', 'switch.voltageRating=150..300:2', '--json', '--workers', '0']);
     expect(status).toBe(0);
