@@ -37,6 +37,8 @@ export interface ServerOptions {
   /** A request that waits longer than this for a run slot is answered 503, ms. */
   maxQueueWaitMs?: number;
   bodyLimitBytes?: number;
+  /** Heap ceiling of each simulation worker thread, MB (default WORKER_HEAP_CEILING_MB). */
+  workerHeapMb?: number;
   /** Host names (besides IP addresses and localhost) the page may be reached by: the --host given by name. */
   extraHostNames?: string[];
 }
@@ -73,7 +75,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
   const runTimeCapMs = options.runTimeCapMs ?? 20_000;
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
   const slots = new RunSlots(maxConcurrentRuns, options.maxQueuedRuns ?? 8, options.maxQueueWaitMs ?? 10_000);
-  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns, maxHeapMb: WORKER_HEAP_CEILING_MB });
+  const workerHeapMb = options.workerHeapMb ?? WORKER_HEAP_CEILING_MB;
+  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns, maxHeapMb: workerHeapMb });
   // Sweeps run on worker processes, made on the first sweep (they scale better than threads) and
   // made again when the old ones stopped working.
   let studyPool: StudyPool | undefined;
@@ -122,7 +125,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
    */
   const workerFault = (error: unknown): HttpError => {
     const code = (error as { code?: string }).code;
-    if (code === 'ERR_WORKER_OUT_OF_MEMORY') return new HttpError(503, `the run needed more memory than a worker's ceiling of ${WORKER_HEAP_CEILING_MB} MB; record fewer cycles or samples`);
+    if (code === 'ERR_WORKER_OUT_OF_MEMORY') return new HttpError(503, `the run needed more memory than a worker's ceiling of ${workerHeapMb} MB; record fewer cycles or samples`);
     process.stderr.write(`flyclamp serve: a worker failed: ${(error as Error).message}\n`);
     return new HttpError(500, 'a simulation worker failed unexpectedly (the server log has the details); try again');
   };

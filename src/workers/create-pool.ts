@@ -15,7 +15,7 @@ export interface PoolOptions {
 export function createPool<Task, Result>(callerUrl: string, workerBaseName: string, options: PoolOptions = {}): Piscina<Task, Result> {
   const fromSource = callerUrl.endsWith('.ts');
   const filename = new URL(`./${workerBaseName}${fromSource ? '.ts' : '.js'}`, callerUrl).pathname;
-  return new Piscina<Task, Result>({
+  const pool = new Piscina<Task, Result>({
     filename: decodeURIComponent(filename),
     ...(fromSource ? { execArgv: ['--import', 'tsx'] } : {}),
     minThreads: 0,
@@ -23,4 +23,8 @@ export function createPool<Task, Result>(callerUrl: string, workerBaseName: stri
     idleTimeout: options.idleTimeoutMs ?? 30_000,
     resourceLimits: { maxYoungGenerationSizeMb: 128, ...(options.maxHeapMb ? { maxOldGenerationSizeMb: options.maxHeapMb } : {}) },
   });
+  // A worker that fails outside a task (out of memory while starting) is reported on the pool;
+  // unheard, that event would end the whole process. Piscina starts another worker.
+  pool.on('error', (error: Error) => process.stderr.write(`flyclamp: a worker thread failed: ${error.message}\n`));
+  return pool;
 }

@@ -196,6 +196,19 @@ describe('HTTP API memory', () => {
       expect((peak - idle) / 1e6).toBeLessThan(MEMORY_CEILING_MB);
     } finally { await stop(s); }
   }, 60_000);
+  it('a worker that runs out of heap (at start or mid-run) gets its request answered, and the server lives on', async () => {
+    // 4 MB is too little for a worker to start or to run: either way the request must be answered
+    // (503 when the run was under way, 504 at the cap when no worker ever took it) and no error
+    // may reach the process unheard (vitest fails the run on an unhandled one).
+    const s = await start({ workerHeapMb: 4, maxConcurrentRuns: 1, runTimeCapMs: 1000 });
+    try {
+      const res = await postTo(s.base, '/api/simulate', { scenario: await demo('bias-48v'), variants: ['bare'] });
+      expect([503, 504]).toContain(res.status);
+      expect(((await res.json()) as { error: string }).error).toMatch(/more memory than a worker's ceiling of 4 MB|time cap/);
+      expect((await fetch(`${s.base}/api/health`)).status).toBe(200);
+      expect((await postTo(s.base, '/api/simulate', { scenario: {} })).status).toBe(400);
+    } finally { await stop(s); }
+  }, 60_000);
 });
 
 describe('HTTP API under load', () => {
