@@ -14,6 +14,8 @@ import { circuitForVariant, leakageRingPeriodSeconds } from '../model/circuit-pa
 export const SECONDS_PER_RING_PERIOD = 3e-4;
 /** Cycles assumed for settling: the demo scenarios settle in 12–34 (settling jumps ahead). */
 export const ESTIMATED_CYCLES = 50;
+/** Variant runs a design makes at least: three variants at the worst case and at nominal (adjustments add more). */
+export const DESIGN_VARIANT_RUNS = 6;
 /** Samples kept per variant (recorded cycles × samples per cycle after the raise for the ring): 9 channels × 8 bytes each, 29 MB at the cap. */
 export const MAX_RECORDED_SAMPLES = 400_000;
 

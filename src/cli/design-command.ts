@@ -9,11 +9,9 @@ import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
 import { enforceWorkBudget, readMaxSeconds, withBudgetHint } from './work-limits.js';
 import { nonFinitePaths } from '../analysis/result-checks.js';
+import { DESIGN_VARIANT_RUNS } from '../analysis/work-budget.js';
 
 export interface DesignOptions { json?: boolean; report?: string; maxSeconds?: string }
-
-/** Variant runs a design makes at least: three variants at the worst case and at nominal (adjustments add more). */
-const DESIGN_VARIANT_RUNS = 6;
 
 export async function runDesignCommand(file: string, options: DesignOptions): Promise<void> {
   const maxSeconds = readMaxSeconds(options.maxSeconds);

@@ -20,7 +20,7 @@ import { getNumberAt, scenarioToJson, type ScenarioJson } from '../circuit/scena
 import { drainDerating } from '../analysis/simulation-report.js';
 import { checkInputLimits } from '../circuit/input-limits.js';
 import { duplicateKeyIssues } from '../circuit/duplicate-keys.js';
-import { checkWorkBudget, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
+import { checkWorkBudget, DESIGN_VARIANT_RUNS, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
 import { nonFinitePaths, soundVariants } from '../analysis/result-checks.js';
 import { Busy, RunSlots } from './admission.js';
 import { hostCheck, securityHeaders } from './web-guards.js';
@@ -249,9 +249,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
   return { app, close: async () => { await pool.destroy(); await studyPool?.destroy(); } };
 }
 
-/** Variant runs a design makes at least: three variants at the worst case and at nominal. */
-const DESIGN_VARIANT_RUNS = 6;
-const capHint = (): string => 'lower the cost (the server caps each run); the command line has no such cap (--max-seconds)';
+const capHint = (): string => 'run it from the command line, whose budget --max-seconds can be raised (the server caps each run)';
 
 /** Over the recorded-sample budget: 413 (too large a request); over the time estimate: 422. */
 function refuseOverBudget(refusals: BudgetRefusal[]): void {

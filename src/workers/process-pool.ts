@@ -16,6 +16,8 @@ interface Pending<Task, Result> {
   release: () => void;
 }
 
+/** Heap ceiling of each child, MB: a point's recording is at most 29 MB (the recorded-sample budget). */
+const CHILD_HEAP_MB = 512;
 /** How long `destroy` lets a busy child finish before it is killed, ms. */
 const DESTROY_GRACE_MS = 2_000;
 /** Children that die in a row without finishing a task before the pool gives up replacing them. */
@@ -51,7 +53,8 @@ export class ProcessPool<Task, Result> {
 
   private spawn(): void {
     const child = fork(fileURLToPath(this.entryUrl), [], {
-      execArgv: this.fromSource ? ['--import', 'tsx'] : [],
+      // A heap ceiling per child: a point that grows past it ends its own process, not the machine.
+      execArgv: [...(this.fromSource ? ['--import', 'tsx'] : []), `--max-old-space-size=${CHILD_HEAP_MB}`],
       stdio: ['ignore', 'ignore', 'inherit', 'ipc'],
     });
     child.on('message', (message: { id: number; result?: Result; error?: string }) => this.finished(child, message));
