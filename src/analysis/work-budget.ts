@@ -8,12 +8,13 @@ import { circuitForVariant, leakageRingPeriodSeconds } from '../model/circuit-pa
 /**
  * Wall time per leakage-ring period integrated, s. The integrator's step is capped at half a ring
  * period, so the cost of a cycle grows with the ring periods in it. Measured on the demo scenarios
- * on one core of the two-core development machine: 38–317 µs (a ring still ringing costs most);
- * the upper end, rounded, so the estimate errs towards refusing.
+ * on one core of the two-core development machine: 38–151 µs once the JIT is warm (a ring still
+ * ringing costs most), 317 µs for the very first run. Rounded up from the warm range: the estimate
+ * is there to refuse what is off by orders of magnitude; the deadline catches the rest.
  */
-export const SECONDS_PER_RING_PERIOD = 3e-4;
+export const SECONDS_PER_RING_PERIOD = 2e-4;
 /** Cycles assumed for settling: the demo scenarios settle in 12–34 (settling jumps ahead). */
-export const ESTIMATED_CYCLES = 50;
+export const ESTIMATED_CYCLES = 30;
 /** Variant runs a design makes at least: three variants at the worst case and at nominal (adjustments add more). */
 export const DESIGN_VARIANT_RUNS = 6;
 /** Samples kept per variant (recorded cycles × samples per cycle after the raise for the ring): 9 channels × 8 bytes each, 29 MB at the cap. */

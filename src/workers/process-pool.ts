@@ -12,7 +12,7 @@ interface Pending<Task, Result> {
   task: Task;
   resolve: (r: Result) => void;
   reject: (e: Error) => void;
-  /** Removes the abort listener; called once the task is settled, so listeners never pile up. */
+  /** Stops watching its signal; called once the task is settled, so listeners never pile up. */
   release: () => void;
 }
 
@@ -69,17 +69,40 @@ export class ProcessPool<Task, Result> {
     if (this.broken) return Promise.reject(new Error(this.closed ? 'the process pool is closed' : 'the worker processes keep failing'));
     if (signal?.aborted) return Promise.reject(new Error('aborted'));
     return new Promise<Result>((resolve, reject) => {
-      const onAbort = (): void => this.cancel(pending);
       const pending: Pending<Task, Result> = {
         id: this.nextId++, task,
         resolve: (r) => { pending.release(); resolve(r); },
         reject: (e) => { pending.release(); reject(e); },
-        release: () => signal?.removeEventListener('abort', onAbort),
+        release: () => { if (signal) this.unwatch(signal, pending); },
       };
-      signal?.addEventListener('abort', onAbort, { once: true });
+      if (signal) this.watch(signal, pending);
       this.queue.push(pending);
       this.dispatch();
     });
+  }
+
+  /**
+   * One abort listener per signal, however many of its tasks are waiting (a study queues hundreds
+   * under one signal: a listener each set off MaxListenersExceededWarning); removed with the last task.
+   */
+  private readonly watched = new Map<AbortSignal, { tasks: Set<Pending<Task, Result>>; onAbort: () => void }>();
+
+  private watch(signal: AbortSignal, pending: Pending<Task, Result>): void {
+    let entry = this.watched.get(signal);
+    if (!entry) {
+      const tasks = new Set<Pending<Task, Result>>();
+      entry = { tasks, onAbort: () => { for (const p of [...tasks]) this.cancel(p); } };
+      this.watched.set(signal, entry);
+      signal.addEventListener('abort', entry.onAbort, { once: true });
+    }
+    entry.tasks.add(pending);
+  }
+
+  private unwatch(signal: AbortSignal, pending: Pending<Task, Result>): void {
+    const entry = this.watched.get(signal);
+    if (!entry?.tasks.delete(pending) || entry.tasks.size > 0) return;
+    signal.removeEventListener('abort', entry.onAbort);
+    this.watched.delete(signal);
   }
 
   /** A cancelled task stops: dropped from the queue, or its child killed (and replaced) mid-run. */

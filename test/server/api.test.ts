@@ -136,7 +136,7 @@ describe('HTTP API: design and sweep', () => {
 
 describe('HTTP API limits', () => {
   it('a run over its time cap answers 504 with a clear message', async () => {
-    // Within the cost estimate (0.82 s: the default solver tolerance, 50 cycles), but at the
+    // Within the cost estimate (0.33 s: the default solver tolerance, 30 cycles), but at the
     // tightest tolerances it runs about 300 cycles, some 3 s, until the cap stops it.
     const s = await start({ runTimeCapMs: 1200 });
     try {

@@ -48,8 +48,8 @@ function rawRequest(port: number, method: string, path: string, headers: Record<
 /**
  * A scenario whose bare variant never reaches its settle tolerance: about 300 cycles at the
  * tightest solver tolerance (about 3 s on the development machine) before it is called
- * non-periodic, while its cost estimate (which assumes the default tolerance and 50 cycles) is
- * 0.82 s. So a cap of 1.2 s admits it and then stops it.
+ * non-periodic, while its cost estimate (which assumes the default tolerance and 30 cycles) is
+ * 0.33 s. So a cap of 1.2 s admits it and then stops it.
  */
 const SLOW_RUN_CAP_MS = 1200;
 async function endless(): Promise<Doc> {
