@@ -9,7 +9,7 @@ import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
 import { enforceWorkBudget, readMaxSeconds, withBudgetHint } from './work-limits.js';
 import { nonFinitePaths } from '../analysis/result-checks.js';
-import { DESIGN_VARIANT_RUNS } from '../analysis/work-budget.js';
+import { designVariantRuns } from '../analysis/work-budget.js';
 
 export interface DesignOptions { json?: boolean; report?: string; maxSeconds?: string }
 
@@ -21,7 +21,7 @@ export async function runDesignCommand(file: string, options: DesignOptions): Pr
     if (!/\.html?$/i.test(options.report)) throw new BadInput(`--report: expected a file name ending in .html, found ${options.report}`);
     await outputFor('--report', () => checkOutputPath(options.report!, [file]));
   }
-  enforceWorkBudget(loaded.scenario, DESIGN_VARIANT_RUNS, maxSeconds);
+  enforceWorkBudget(loaded.scenario, designVariantRuns(loaded.scenario), maxSeconds);
   let result: ReturnType<typeof designClamp>;
   try {
     result = designClamp(loaded.scenario, { deadlineMs: Date.now() + maxSeconds * 1000 });

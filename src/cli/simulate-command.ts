@@ -27,7 +27,7 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   }
   if (options.csv) await outputFor('--csv', () => checkOutputPath(options.csv!, [file]));
   const variants = options.variant ? [options.variant] : supported;
-  enforceWorkBudget(scenario, variants.length, maxSeconds);
+  enforceWorkBudget(scenario, variants, maxSeconds);
 
   const deadlineMs = Date.now() + maxSeconds * 1000;
   const runs: VariantRun[] = [];

@@ -14,6 +14,7 @@ import { enforceWorkBudget, readMaxSeconds } from './work-limits.js';
 import { drainDerating } from '../analysis/simulation-report.js';
 import { validateScenario } from '../circuit/validate-scenario.js';
 import { scenarioAtPoint } from '../study/run-study.js';
+import { availableVariants } from '../circuit/scenario.js';
 
 export interface SweepOptions {
   vary: string[];
@@ -52,7 +53,8 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   points.forEach((values, index) => {
     const at = validateScenario(scenarioAtPoint(base, values));
     if (!at.ok) return;
-    enforceWorkBudget(at.scenario, 1, maxSeconds, ` (at point ${index + 1}: ${Object.entries(values).map(([p, v]) => `${p} = ${formatSi(v, unitOf(p))}`).join(', ')}; the budget is per variant)`);
+    const where = ` (at point ${index + 1}: ${Object.entries(values).map(([p, v]) => `${p} = ${formatSi(v, unitOf(p))}`).join(', ')}; the budget is per variant)`;
+    for (const variant of availableVariants(at.scenario)) enforceWorkBudget(at.scenario, [variant], maxSeconds, where);
   });
 
   const abort = new AbortController();

@@ -1,7 +1,7 @@
 // The CLI's work budget: every command estimates its cost before simulating and runs under a
 // deadline, so no scenario runs unbounded; `--max-seconds` lifts the budget.
 
-import type { Scenario } from '../circuit/scenario.js';
+import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { checkWorkBudget, type BudgetRefusal } from '../analysis/work-budget.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
 
@@ -23,8 +23,8 @@ export function readMaxSeconds(text: string | undefined): number {
  * the field to change); too much estimated time is a run that cannot finish (exit 1). `where`
  * follows each message (which sweep point it is).
  */
-export function enforceWorkBudget(scenario: Scenario, variantCount: number, maxSeconds: number, where = ''): void {
-  const refusals = checkWorkBudget(scenario, variantCount, maxSeconds, (needed) => `pass --max-seconds ${needed} to run it anyway`);
+export function enforceWorkBudget(scenario: Scenario, variants: readonly VariantName[], maxSeconds: number, where = ''): void {
+  const refusals = checkWorkBudget(scenario, variants, maxSeconds, (needed) => `pass --max-seconds ${needed} to run it anyway`);
   const lines = (kind: BudgetRefusal['kind']): string => refusals.filter((r) => r.kind === kind).map((r) => `${r.path}: ${r.message}${where}`).join('\n');
   if (lines('recorded-samples')) throw new BadInput(lines('recorded-samples'));
   if (lines('time')) throw new SimulationFailed(`over the work budget\n${lines('time')}`);

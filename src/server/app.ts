@@ -20,7 +20,7 @@ import { getNumberAt, scenarioToJson, type ScenarioJson } from '../circuit/scena
 import { drainDerating } from '../analysis/simulation-report.js';
 import { checkInputLimits } from '../circuit/input-limits.js';
 import { duplicateKeyIssues } from '../circuit/duplicate-keys.js';
-import { checkWorkBudget, DESIGN_VARIANT_RUNS, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
+import { checkWorkBudget, designVariantRuns, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
 import { nonFinitePaths, soundVariants } from '../analysis/result-checks.js';
 import { Busy, RunSlots } from './admission.js';
 import { hostCheck, securityHeaders } from './web-guards.js';
@@ -179,7 +179,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
   app.post('/api/design', async (req, res) => {
     const { scenario, warnings } = readScenarioBody(req.body, ['scenario', 'columns']);
     const capMs = 3 * runTimeCapMs; // a design verifies several corners and adjustments
-    refuseOverBudget(checkWorkBudget(scenario, DESIGN_VARIANT_RUNS, capMs / 1000, capHint));
+    refuseOverBudget(checkWorkBudget(scenario, designVariantRuns(scenario), capMs / 1000, capHint));
     const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, capMs }, { signal })) as DesignTaskResult;
     if (!result.ok) throw failed(result.failure, 'design');
     const notFinite = nonFinitePaths(result.design);
@@ -264,13 +264,14 @@ function checkStudyBudget(base: Record<string, unknown>, points: ReadonlyArray<R
   for (const [index, values] of points.entries()) {
     const at = validateScenario(scenarioAtPoint(base as ScenarioJson, values));
     if (!at.ok) continue; // fails on its own, with its reason, as a point
-    const variants = availableVariants(at.scenario).length;
-    const refusals = checkWorkBudget(at.scenario, 1, runCapMs / 1000, capHint);
+    const variants = availableVariants(at.scenario);
+    // Each variant is its own task with its own cap.
+    const refusals = variants.flatMap((v) => checkWorkBudget(at.scenario, [v], runCapMs / 1000, capHint));
     if (refusals.length > 0) {
       refuseOverBudget(refusals.map((r) => ({ ...r, message: `at point ${index + 1}: ${r.message}` })));
     }
     const estimate = estimateWork(at.scenario, variants);
-    samples += variants * estimate.recordedSamples;
+    samples += variants.length * estimate.recordedSamples;
     seconds += estimate.estimatedSeconds;
   }
   if (samples > MAX_STUDY_RECORDED_SAMPLES) {
@@ -328,7 +329,7 @@ function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & {
   if (missing.length > 0) {
     throw new HttpError(400, 'invalid request', [{ path: 'body.variants', message: `expected variants this scenario supports (${supported.join(', ')}), found ${missing.join(', ')}` }]);
   }
-  refuseOverBudget(checkWorkBudget(scenario, wanted.length, runTimeCapMs / 1000, capHint));
+  refuseOverBudget(checkWorkBudget(scenario, wanted, runTimeCapMs / 1000, capHint));
   return {
     scenario, variants: wanted, columns: (columns as number | undefined) ?? 1500, warnings: validated.warnings,
     capMs: runTimeCapMs,

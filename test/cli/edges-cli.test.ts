@@ -124,16 +124,25 @@ describe('the work budget', () => {
 });
 
 describe('results are finite and checked, or a failure with the reason', () => {
-  it('a 1e-18 Ω damper exits 1 naming the damped variant and the value that is not finite; the other variants print, all finite', async () => {
+  it('a 1e-18 Ω damper exits 1 before simulating, naming damper.resistance (its RC is far below a femtosecond)', async () => {
     const doc = await demo('bias-48v');
     doc.damper.resistance = 1e-18;
     const { status, stdout, stderr } = runCli(['simulate', await scenarioFile('tiny-damper', doc), '--json']);
     expect(status).toBe(1);
-    expect(stderr).toMatch(/damped: the result has no finite value for .*energyBalance\.relativeMismatch/);
-    const report = JSON.parse(stdout) as Doc;
-    expect(Object.keys(report.variants)).toEqual(['bare', 'clamp']);
-    expect(stdout).not.toMatch(/null(?![^\n]*ringFrequency)/);
-    expect(stdout).not.toMatch(/NaN|Infinity/);
+    expect(stdout).toBe('');
+    expect(stderr).toMatch(/^damper\.resistance: expected a scenario that runs within 120 s, found 1e-18 Ω \(typical: 1–10000 Ω; a wrong SI prefix\?\): .*periods of the damper RC/m);
+  }, CLI_TIMEOUT_MS);
+
+  it('a 68 fF damper capacitor (a prefix off) is refused naming damper.capacitance, while --variant clamp, which has no damper, runs', async () => {
+    const doc = await demo('bias-48v');
+    doc.damper.capacitance = 6.8e-14;
+    const file = await scenarioFile('tiny-damper-capacitor', doc);
+    const all = runCli(['simulate', file, '--max-seconds', '3']);
+    expect(all.status).toBe(1);
+    expect(all.stderr).toMatch(/^damper\.capacitance: expected a scenario that runs within 3 s, found 6\.8e-14 F/m);
+    const clampOnly = runCli(['simulate', file, '--variant', 'clamp', '--json', '--max-seconds', '3']);
+    expect(clampOnly.status).toBe(0);
+    expect(Object.keys((JSON.parse(clampOnly.stdout) as Doc).variants)).toEqual(['clamp']);
   }, CLI_TIMEOUT_MS);
 });
 
