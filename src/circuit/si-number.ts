@@ -14,9 +14,22 @@ const UNIT_SPELLINGS: Readonly<Record<string, readonly string[]>> = {
   'Ω': ['Ω', 'ohm', 'Ohm', 'R'],
 };
 
-const NUMBER_PART = /^\s*([+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?)\s*(.*?)\s*$/;
+// Anchored at both ends with nothing optional before the suffix, so a failed match cannot try the
+// string's positions against each other: a pattern with `\s*` on both sides of a lazy group took
+// time growing with the square of the length (a 255 kB run of spaces took 100 s).
+const NUMBER_PART = /^([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)([\s\S]*)$/;
+
+/** Longest text accepted for a number: "-1.23456789012345e-12 MΩ" needs 25; the rest is slack. */
+export const MAX_NUMBER_TEXT_LENGTH = 64;
 
 export type ParsedNumber = { ok: true; value: number } | { ok: false; expected: string };
+
+/** The mantissa text and the suffix after it, whitespace around either removed; in linear time. */
+export function splitNumberText(text: string): { mantissa: string; suffix: string } | undefined {
+  const match = NUMBER_PART.exec(text.trim());
+  if (!match) return undefined;
+  return { mantissa: match[1]!, suffix: match[2]!.trimStart() };
+}
 
 /**
  * Parses a number or prefixed string. `unit` is the field's unit symbol ('' for a ratio): a trailing
@@ -30,10 +43,11 @@ export function parseSiNumber(input: unknown, unit: string): ParsedNumber {
     return Number.isFinite(input) ? { ok: true, value: input } : { ok: false, expected };
   }
   if (typeof input !== 'string') return { ok: false, expected };
-  const match = NUMBER_PART.exec(input);
-  if (!match) return { ok: false, expected };
-  const mantissa = Number(match[1]);
-  const suffix = match[2] ?? '';
+  if (input.length > MAX_NUMBER_TEXT_LENGTH) return { ok: false, expected: `${expected}, at most ${MAX_NUMBER_TEXT_LENGTH} characters long` };
+  const parts = splitNumberText(input);
+  if (!parts) return { ok: false, expected };
+  const mantissa = Number(parts.mantissa);
+  const suffix = parts.suffix;
   const exponent = suffixExponent(suffix, unit);
   if (exponent === undefined || !Number.isFinite(mantissa)) return { ok: false, expected };
   const value = scaleByPowerOfTen(mantissa, exponent);

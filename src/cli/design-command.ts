@@ -7,24 +7,31 @@ import { designReportHtml } from '../design/design-report-html.js';
 import { SimulationFailure } from '../simulation/run-variant.js';
 import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
+import { enforceWorkBudget, readMaxSeconds, withBudgetHint } from './work-limits.js';
+import { nonFinitePaths } from '../analysis/result-checks.js';
+import { designVariantRuns } from '../analysis/work-budget.js';
 
-export interface DesignOptions { json?: boolean; report?: string }
+export interface DesignOptions { json?: boolean; report?: string; maxSeconds?: string }
 
 export async function runDesignCommand(file: string, options: DesignOptions): Promise<void> {
+  const maxSeconds = readMaxSeconds(options.maxSeconds);
   const loaded = await loadScenarioFile(file);
   if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
   if (options.report) {
     if (!/\.html?$/i.test(options.report)) throw new BadInput(`--report: expected a file name ending in .html, found ${options.report}`);
     await outputFor('--report', () => checkOutputPath(options.report!, [file]));
   }
+  enforceWorkBudget(loaded.scenario, designVariantRuns(loaded.scenario), maxSeconds);
   let result: ReturnType<typeof designClamp>;
   try {
-    result = designClamp(loaded.scenario);
+    result = designClamp(loaded.scenario, { deadlineMs: Date.now() + maxSeconds * 1000 });
   } catch (error) {
-    if (error instanceof DesignImpossible || error instanceof SimulationFailure) throw new SimulationFailed(error.message);
+    if (error instanceof DesignImpossible || error instanceof SimulationFailure) throw new SimulationFailed(withBudgetHint(error.message, maxSeconds));
     throw error;
   }
   const { worstCaseRuns, ...json } = result;
+  const notFinite = nonFinitePaths(json);
+  if (notFinite.length > 0) throw new SimulationFailed(`the design has no finite value for ${notFinite.join(', ')}: check the scenario's part values for a wrong SI prefix`);
   process.stdout.write(options.json ? `${JSON.stringify(json, null, 2)}\n` : `${designTable(json)}\n`);
   if (options.report) {
     await outputFor('--report', () => writeFileAtomic(options.report!, designReportHtml(loaded.scenario, json, worstCaseRuns), [file]));

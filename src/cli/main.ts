@@ -8,6 +8,7 @@ import { runSweepCommand, type SweepOptions } from './sweep-command.js';
 import { runDesignCommand } from './design-command.js';
 import { runFitCommand, type FitCommandOptions } from './fit-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
+import { DEFAULT_MAX_SECONDS } from './work-limits.js';
 
 const program = new Command('flyclamp')
   .description('Settled switching-node simulator for flyback RCD clamps and RC dampers')
@@ -21,7 +22,8 @@ program.command('simulate')
   .option('--json', 'print one JSON object instead of the table')
   .option('--csv <file>', 'write the settled waveforms as CSV')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
-  .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped' }) => {
+  .option('--max-seconds <s>', `work budget: refuse a run estimated over it, stop one that runs over it (default ${DEFAULT_MAX_SECONDS})`)
+  .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped'; maxSeconds?: string }) => {
     await runSimulateCommand(file, options);
   });
 
@@ -30,7 +32,8 @@ program.command('design')
   .argument('<file>', 'scenario JSON file (with an optional "design" block)')
   .option('--json', 'print one JSON object instead of the table')
   .option('--report <file.html>', 'write a self-contained HTML report')
-  .action(async (file: string, options: { json?: boolean; report?: string }) => {
+  .option('--max-seconds <s>', `work budget of the whole design (default ${DEFAULT_MAX_SECONDS})`)
+  .action(async (file: string, options: { json?: boolean; report?: string; maxSeconds?: string }) => {
     await runDesignCommand(file, options);
   });
 
@@ -61,6 +64,7 @@ program.command('sweep')
   .option('--csv <file>', 'write one row per point')
   .option('--workers <n>', 'worker processes (default: one per core; 0: this process only)')
   .option('--progress', 'report progress even when stderr is not a terminal (one line per point)')
+  .option('--max-seconds <s>', `work budget of each point's variant (default ${DEFAULT_MAX_SECONDS})`)
   .action(async (file: string, options: SweepOptions) => {
     await runSweepCommand(file, options);
   });
@@ -95,5 +99,15 @@ async function main(): Promise<number> {
   }
 }
 
+// A reader that stops early (`| head`) closes the pipe: stop writing, without a stack trace.
+for (const stream of [process.stdout, process.stderr]) {
+  stream.on('error', (error: NodeJS.ErrnoException) => {
+    if (error.code !== 'EPIPE') throw error;
+    process.exitCode ||= 1;
+  });
+}
+
+// Set, not process.exit(): exiting at once would cut stdout and stderr at 64 kB when they are
+// pipes (the rest is still queued); the process ends by itself once they have drained.
 const code = await main();
-if (code !== 0) process.exit(code);
+if (code !== 0) process.exitCode = code; // else keep what a command set (130 for an interrupted sweep)

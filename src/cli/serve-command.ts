@@ -1,6 +1,6 @@
 import { dirname, join, resolve } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import type { AddressInfo } from 'node:net';
+import { isIP, type AddressInfo } from 'node:net';
 import { createServer } from '../server/app.js';
 import { BadInput } from './cli-errors.js';
 import { runSimulateCommand } from './simulate-command.js';
@@ -17,7 +17,11 @@ export async function runServeCommand(file: string | undefined, options: ServeOp
     throw new BadInput(`--port: expected a whole number from 0 to 65535 (0 for any free port), found ${JSON.stringify(options.port)}`);
   }
   if (file) await runSimulateCommand(file, {});
-  const server = createServer({ scenariosDir: join(packageRoot, 'scenarios'), webDir: join(packageRoot, 'web'), readmeFile: join(packageRoot, 'README.md') });
+  const server = createServer({
+    scenariosDir: join(packageRoot, 'scenarios'), webDir: join(packageRoot, 'web'), readmeFile: join(packageRoot, 'README.md'),
+    // Bound by name (not an address): that name is a Host the page may be reached by.
+    ...(isIP(options.host) === 0 ? { extraHostNames: [options.host] } : {}),
+  });
   const listener = server.app.listen(port, options.host);
   await new Promise<void>((ok, fail) => {
     listener.once('listening', ok);
@@ -28,7 +32,11 @@ export async function runServeCommand(file: string | undefined, options: ServeOp
   const { port: actual } = listener.address() as AddressInfo;
   const scenarioParam = file ? `?scenario=${encodeURIComponent(file.replace(/^.*[\\/]/, '').replace(/\.json$/, ''))}` : '';
   process.stdout.write(`\nflyclamp page: http://${options.host.includes(':') ? `[${options.host}]` : options.host}:${actual}/${scenarioParam}\n(Ctrl-C stops the server)\n`);
-  const stop = (): void => { listener.close(); void server.close().then(() => process.exit(0)); };
+  const stop = (): void => {
+    listener.close();
+    listener.closeAllConnections(); // keep-alive connections would hold the close open
+    void server.close().then(() => process.exit(0));
+  };
   process.once('SIGINT', stop);
   process.once('SIGTERM', stop);
 }

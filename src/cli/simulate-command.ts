@@ -1,17 +1,23 @@
 import { loadScenarioFile } from '../circuit/load-scenario.js';
 import { availableVariants, type VariantName } from '../circuit/scenario.js';
 import { formatIssues } from '../circuit/validate-scenario.js';
-import { simulationReport } from '../analysis/simulation-report.js';
+import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
+import { soundVariants } from '../analysis/result-checks.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
 import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
 import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { summaryTable } from './summary-table.js';
-import { waveformCsv } from './waveform-csv.js';
+import { waveformCsv, waveformCsvSize } from './waveform-csv.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
+import { enforceWorkBudget, readMaxSeconds, withBudgetHint } from './work-limits.js';
 
-export interface SimulateOptions { json?: boolean; csv?: string; variant?: VariantName }
+export interface SimulateOptions { json?: boolean; csv?: string; variant?: VariantName; maxSeconds?: string }
+
+/** Above this a CSV gets a warning with its size before it is written (it is streamed, so memory stays flat). */
+export const CSV_WARNING_BYTES = 50 * 1024 * 1024;
 
 export async function runSimulateCommand(file: string, options: SimulateOptions): Promise<void> {
+  const maxSeconds = readMaxSeconds(options.maxSeconds);
   const loaded = await loadScenarioFile(file);
   if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
   let scenario = loaded.scenario;
@@ -22,6 +28,9 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   }
   if (options.csv) await outputFor('--csv', () => checkOutputPath(options.csv!, [file]));
   const variants = options.variant ? [options.variant] : supported;
+  enforceWorkBudget(scenario, variants, maxSeconds);
+
+  const deadlineMs = Date.now() + maxSeconds * 1000;
   const runs: VariantRun[] = [];
   const failures: string[] = [];
   try {
@@ -32,17 +41,27 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   }
   for (const v of variants) {
     try {
-      runs.push(runVariant(scenario, v));
+      runs.push(runVariant(scenario, v, { deadlineMs }));
     } catch (error) {
       if (!(error instanceof SimulationFailure)) throw error;
-      failures.push(`${v}: ${error.message}`);
+      failures.push(`${v}: ${withBudgetHint(error.message, maxSeconds)}`);
     }
   }
-  if (runs.length > 0) {
-    const report = simulationReport(scenario, runs);
+  const full = runs.length > 0 ? simulationReport(scenario, runs) : undefined;
+  // A variant with a number that did not come out finite, or an energy balance that does not
+  // close, is a failure with its reason, not a result.
+  const { sound, problems } = soundVariants(full?.variants ?? {});
+  failures.push(...problems);
+  const kept = runs.filter((r) => sound[r.variant]);
+  if (full && kept.length > 0) {
+    const report: SimulationReport = { ...full, variants: sound as SimulationReport['variants'] };
     process.stdout.write(options.json ? `${JSON.stringify(report, null, 2)}\n` : `${summaryTable(report)}\n`);
     if (options.csv) {
-      await outputFor('--csv', () => writeFileAtomic(options.csv!, waveformCsv(runs), [file]));
+      const size = waveformCsvSize(kept);
+      if (size.bytes > CSV_WARNING_BYTES) {
+        process.stderr.write(`warning: --csv: the file will be about ${Math.round(size.bytes / 1e6)} MB (${size.rows} rows × ${size.columns} columns); lower simulation.recordedCycles or samplesPerCycle for a smaller one\n`);
+      }
+      await outputFor('--csv', () => writeFileAtomic(options.csv!, waveformCsv(kept), [file]));
       if (!options.json) process.stdout.write(`Waveforms written to ${options.csv}\n`);
     }
   }

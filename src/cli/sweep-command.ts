@@ -8,8 +8,13 @@ import type { PointValues } from '../study/study-points.js';
 import { choosePoints } from '../study/choose-points.js';
 import { runStudy, type StudyPoint, type StudyRun } from '../study/run-study.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
-import { BadInput, outputFor } from './cli-errors.js';
+import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
+import { enforceWorkBudget, readMaxSeconds } from './work-limits.js';
+import { drainDerating } from '../analysis/simulation-report.js';
+import { validateScenario } from '../circuit/validate-scenario.js';
+import { scenarioAtPoint } from '../study/run-study.js';
+import { availableVariants } from '../circuit/scenario.js';
 
 export interface SweepOptions {
   vary: string[];
@@ -21,11 +26,13 @@ export interface SweepOptions {
   csv?: string;
   workers?: string;
   progress?: boolean;
+  maxSeconds?: string;
 }
 
 const unitOf = (path: string): string => fieldUnit(path) ?? '';
 
 export async function runSweepCommand(file: string, options: SweepOptions): Promise<void> {
+  const maxSeconds = readMaxSeconds(options.maxSeconds);
   const loaded = await loadScenarioFile(file);
   if (!loaded.ok) throw new BadInput(formatIssues(loaded.issues));
   const base = scenarioToJson(loaded.scenario);
@@ -42,6 +49,13 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   if (workers !== undefined && !(Number.isInteger(workers) && workers >= 0 && workers <= 64)) {
     throw new BadInput(`--workers: expected a whole number from 0 (this process only) to 64, found ${JSON.stringify(options.workers)}`);
   }
+  // Every point within the budget before any runs (a point that is invalid fails on its own, with its reason).
+  points.forEach((values, index) => {
+    const at = validateScenario(scenarioAtPoint(base, values));
+    if (!at.ok) return;
+    const where = ` (at point ${index + 1}: ${Object.entries(values).map(([p, v]) => `${p} = ${formatSi(v, unitOf(p))}`).join(', ')}; the budget is per variant)`;
+    for (const variant of availableVariants(at.scenario)) enforceWorkBudget(at.scenario, [variant], maxSeconds, where);
+  });
 
   const abort = new AbortController();
   const onInterrupt = (): void => {
@@ -53,32 +67,38 @@ export async function runSweepCommand(file: string, options: SweepOptions): Prom
   const progress = progressLine(points.length, options.progress === true);
   let study: StudyRun;
   try {
-    study = await runStudy(base, points, { signal: abort.signal, onProgress: progress.update, ...(workers === undefined ? {} : { workers }) });
+    study = await runStudy(base, points, { signal: abort.signal, taskCapMs: maxSeconds * 1000, onProgress: progress.update, ...(workers === undefined ? {} : { workers }) });
   } finally {
     process.off('SIGINT', onInterrupt);
     progress.finish();
   }
 
+  // The limits of the base scenario: a point may vary the rating itself.
+  const voltageRating = loaded.scenario.switch.voltageRating;
+  const deratedLimit = voltageRating * drainDerating(loaded.scenario);
   const worst = worstPerVariant(study.points);
-  const monteCarlo = options.samples ? peakDistribution(study.points, study.deratedLimit) : undefined;
+  const monteCarlo = options.samples ? peakDistribution(study.points, deratedLimit) : undefined;
   const result = {
     scenario: loaded.scenario.name,
     kind: options.samples ? 'monte-carlo' : options.corners ? 'corners' : 'grid',
     ...(options.samples ? { seed: Number(options.seed) } : {}),
-    voltageRating: study.voltageRating,
-    deratedLimit: study.deratedLimit,
+    voltageRating,
+    deratedLimit,
     interrupted: study.interrupted,
     pointsRequested: points.length,
     points: study.points,
     worst,
     ...(monteCarlo ? { monteCarlo } : {}),
   };
-  process.stdout.write(options.json ? `${JSON.stringify(result, null, 2)}\n` : `${sweepTable(result.scenario, study, worst, monteCarlo)}\n`);
+  process.stdout.write(options.json ? `${JSON.stringify(result, null, 2)}\n` : `${sweepTable(result.scenario, study, { voltageRating, deratedLimit }, worst, monteCarlo)}\n`);
   if (options.csv) {
     await outputFor('--csv', () => writeFileAtomic(options.csv!, sweepCsv(study.points), [file]));
     if (!options.json) process.stdout.write(`Points written to ${options.csv}\n`);
   }
   if (study.interrupted) process.exitCode = 130;
+  else if (study.points.length > 0 && study.points.every((p) => p.failure !== undefined)) {
+    throw new SimulationFailed(`every one of the ${study.points.length} points failed; each one's reason is in the output above`);
+  }
 }
 
 /**
@@ -107,7 +127,7 @@ function progressLine(total: number, forced: boolean): { update: (done: number, 
 const VARIANT_ORDER: VariantName[] = ['bare', 'clamp', 'damped'];
 const signed = (v: number): string => `${v >= 0 ? '+' : ''}${formatSi(v, 'V', 3)}`;
 
-function sweepTable(name: string, study: StudyRun, worst: ReturnType<typeof worstPerVariant>, monteCarlo: ReturnType<typeof peakDistribution> | undefined): string {
+function sweepTable(name: string, study: StudyRun, limits: { voltageRating: number; deratedLimit: number }, worst: ReturnType<typeof worstPerVariant>, monteCarlo: ReturnType<typeof peakDistribution> | undefined): string {
   const paths = [...new Set(study.points.flatMap((p) => Object.keys(p.values)))];
   const variants = VARIANT_ORDER.filter((v) => study.points.some((p) => p.variants?.[v]));
   const header = ['#', ...paths, ...variants.map((v) => `${v} peak (to rating, to limit)`), 'clamp mean', 'ripple', 'clamp R power'];
@@ -125,7 +145,7 @@ function sweepTable(name: string, study: StudyRun, worst: ReturnType<typeof wors
   });
   const widths = header.map((h, i) => Math.max(h.length, ...rows.map((r) => (r[i] ?? '').length)));
   const render = (r: string[]): string => r.map((c, i) => c.padEnd(widths[i] ?? 0)).join('  ').trimEnd();
-  const lines = [`Sweep of ${name}: ${study.points.length} points; rating ${formatSi(study.voltageRating, 'V')}, derated limit ${formatSi(study.deratedLimit, 'V')}`, '', render(header), ...rows.map(render), ''];
+  const lines = [`Sweep of ${name}: ${study.points.length} points; rating ${formatSi(limits.voltageRating, 'V')}, derated limit ${formatSi(limits.deratedLimit, 'V')} (of the base scenario)`, '', render(header), ...rows.map(render), ''];
   for (const v of variants) {
     const w = worst[v];
     if (!w) continue;

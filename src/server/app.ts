@@ -12,12 +12,18 @@ import { availableVariants, VARIANT_NAMES, type Scenario, type VariantName } fro
 import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
 import type { DesignTaskResult } from './design-task.js';
 import type { ServerTask, ServerTaskResult } from './server-worker.js';
-import { createStudyPool, runStudy, type StudyPool } from '../study/run-study.js';
+import { createStudyPool, runStudy, scenarioAtPoint, type StudyPool } from '../study/run-study.js';
 import { choosePoints } from '../study/choose-points.js';
 import { StudySpecError } from '../study/study-spec.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
-import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
+import { getNumberAt, scenarioToJson, type ScenarioJson } from '../circuit/scenario-json.js';
 import { drainDerating } from '../analysis/simulation-report.js';
+import { checkInputLimits } from '../circuit/input-limits.js';
+import { duplicateKeyIssues } from '../circuit/duplicate-keys.js';
+import { checkWorkBudget, designVariantRuns, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
+import { nonFinitePaths, soundVariants } from '../analysis/result-checks.js';
+import { Busy, RunSlots } from './admission.js';
+import { hostCheck, securityHeaders } from './web-guards.js';
 
 export interface ServerOptions {
   scenariosDir: string;
@@ -28,7 +34,13 @@ export interface ServerOptions {
   runTimeCapMs?: number;
   maxConcurrentRuns?: number;
   maxQueuedRuns?: number;
+  /** A request that waits longer than this for a run slot is answered 503, ms. */
+  maxQueueWaitMs?: number;
   bodyLimitBytes?: number;
+  /** Heap ceiling of each simulation worker thread, MB (default WORKER_HEAP_CEILING_MB). */
+  workerHeapMb?: number;
+  /** Host names (besides IP addresses and localhost) the page may be reached by: the --host given by name. */
+  extraHostNames?: string[];
 }
 
 export interface FlyclampServer {
@@ -39,6 +51,14 @@ export interface FlyclampServer {
 const SCENARIO_ID = /^[a-z0-9][a-z0-9-]{0,63}$/;
 const MAX_COLUMNS = 4000;
 const MAX_SWEEP_POINTS = 200;
+/** A sweep's recorded samples in all (points × variants × recorded samples per variant): 200 points × 3 variants at 20,000 each. */
+export const MAX_STUDY_RECORDED_SAMPLES = 12_000_000;
+/** Heap ceiling of a simulation worker thread, MB: the worst allowed request needs about 100 MB of waveforms. */
+export const WORKER_HEAP_CEILING_MB = 512;
+/** Grace past a run's cap before the request gives up on its worker (thread start-up, reduction, transfer), ms. */
+const CAP_GRACE_MS = 10_000;
+
+type RawBodied = Request & { rawBody?: Buffer };
 
 class HttpError extends Error {
   constructor(readonly status: number, message: string, readonly issues?: ValidationIssue[]) { super(message); }
@@ -54,35 +74,87 @@ export function createServer(given: ServerOptions): FlyclampServer {
   };
   const runTimeCapMs = options.runTimeCapMs ?? 20_000;
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
-  // Admission is counted here rather than left to the pool's queue, so "busy" is exact.
-  const maxAdmitted = maxConcurrentRuns + (options.maxQueuedRuns ?? 8);
-  let admittedCount = 0;
-  // Sweeps run on worker processes, made on the first sweep (they scale better than threads).
+  const slots = new RunSlots(maxConcurrentRuns, options.maxQueuedRuns ?? 8, options.maxQueueWaitMs ?? 10_000);
+  const workerHeapMb = options.workerHeapMb ?? WORKER_HEAP_CEILING_MB;
+  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns, maxHeapMb: workerHeapMb });
+  // Sweeps run on worker processes, made on the first sweep (they scale better than threads) and
+  // made again when the old ones stopped working.
   let studyPool: StudyPool | undefined;
-  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns });
+  const currentStudyPool = (): StudyPool => {
+    if (studyPool?.broken) { void studyPool.destroy(); studyPool = undefined; }
+    return (studyPool ??= createStudyPool(maxConcurrentRuns));
+  };
 
-  /** Admits one request, runs its tasks on the pool under one time cap, and maps the failures. */
-  async function admitted<T>(capMs: number, work: (signal: AbortSignal) => Promise<T>): Promise<T> {
-    if (admittedCount >= maxAdmitted) throw new HttpError(503, 'the server is busy with other simulations; try again shortly');
-    admittedCount++;
+  /**
+   * Admits one request to a run slot, then runs its work under the time cap counted from then; a
+   * request that closes (the page navigated away) cancels its work.
+   */
+  async function admitted<T>(res: Response, capMs: number, work: (signal: AbortSignal) => Promise<T>): Promise<T> {
+    const closed = new AbortController();
+    const onClose = (): void => { if (!res.writableFinished) closed.abort(); };
+    res.on('close', onClose);
+    let release: () => void;
+    try {
+      release = await slots.acquire(closed.signal);
+    } catch (error) {
+      res.off('close', onClose);
+      if (error instanceof Busy) throw new HttpError(503, `the server is busy with other simulations (${error.message}); try again shortly`);
+      throw error;
+    }
     const abort = new AbortController();
-    // Runs check their own deadline between cycles; the abort is the backstop for a stuck worker.
-    const timer = setTimeout(() => abort.abort(), capMs + 2_000);
+    const stop = (): void => abort.abort();
+    closed.signal.addEventListener('abort', stop, { once: true });
+    // Runs check their own deadline between cycles; this is the backstop for a stuck worker.
+    const timer = setTimeout(stop, capMs + CAP_GRACE_MS);
     try {
       return await work(abort.signal);
     } catch (error) {
+      if (error instanceof HttpError) throw error;
       if (abort.signal.aborted) throw new HttpError(504, `the work took longer than its time cap of ${capMs / 1000} s`);
-      throw error;
+      throw workerFault(error);
     } finally {
       clearTimeout(timer);
-      admittedCount--;
+      closed.signal.removeEventListener('abort', stop);
+      res.off('close', onClose);
+      release();
     }
   }
+  /**
+   * A worker that died (out of memory, killed) fails its request with a clear status; piscina
+   * starts a fresh thread in its place, and the other requests' runs go on.
+   */
+  const workerFault = (error: unknown): HttpError => {
+    const code = (error as { code?: string }).code;
+    if (code === 'ERR_WORKER_OUT_OF_MEMORY') return new HttpError(503, `the run needed more memory than a worker's ceiling of ${workerHeapMb} MB; record fewer cycles or samples`);
+    process.stderr.write(`flyclamp serve: a worker failed: ${(error as Error).message}\n`);
+    return new HttpError(500, 'a simulation worker failed unexpectedly (the server log has the details); try again');
+  };
   const failed = (failure: string, what = 'simulation'): HttpError => new HttpError(/time cap/.test(failure) ? 504 : 422, `${what} failed: ${failure}`);
 
   const app = express();
   app.disable('x-powered-by');
-  app.use(express.json({ limit: options.bodyLimitBytes ?? 256 * 1024 }));
+  app.use(securityHeaders);
+  app.use(hostCheck({ extraHostNames: options.extraHostNames ?? [] }));
+  // A cheap route answered on the request thread: runs never block it (they are in workers).
+  app.get('/api/health', (_req, res) => {
+    res.json({ ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots } });
+  });
+  // The text is kept for the repeated-key scan (JSON.parse keeps the last of two equal keys silently).
+  app.use(express.json({ limit: options.bodyLimitBytes ?? 256 * 1024, verify: (req, _res, buf) => { (req as RawBodied).rawBody = buf; } }));
+  // Before any handler reads the body: nesting and size limits, so no later step recurses or copies unbounded.
+  app.use((req, _res, next) => {
+    if (req.method !== 'POST' || req.body === undefined) { next(); return; }
+    // The scenario's parts are named as in a scenario file, the rest of the body as body.…
+    const body = req.body as unknown;
+    const isObject = typeof body === 'object' && body !== null && !Array.isArray(body);
+    const { scenario, ...rest } = isObject ? body as Record<string, unknown> : { scenario: undefined };
+    const issues = [...checkInputLimits(isObject ? rest : body, 'body'), ...(scenario === undefined ? [] : checkInputLimits(scenario, ''))];
+    const raw = (req as RawBodied).rawBody;
+    if (issues.length === 0 && raw) {
+      issues.push(...duplicateKeyIssues(raw.toString('utf8'), 'body').map((i) => ({ ...i, path: i.path.replace(/^body\.scenario\./, '') })));
+    }
+    next(issues.length > 0 ? new HttpError(400, 'invalid request', issues) : undefined);
+  });
 
   app.get('/api/scenarios', async (_req, res) => {
     res.json({ scenarios: await listScenarios(options.scenariosDir) });
@@ -96,17 +168,22 @@ export function createServer(given: ServerOptions): FlyclampServer {
   });
 
   app.post('/api/simulate', async (req, res) => {
-    const task = readSimulateBody(req.body, runTimeCapMs);
-    const result = await admitted(runTimeCapMs, (signal) => pool.run({ kind: 'simulate', ...task }, { signal })) as SimulateTaskResult;
+    const { warnings, ...task } = readSimulateBody(req.body, runTimeCapMs);
+    const result = await admitted(res, runTimeCapMs, (signal) => pool.run({ kind: 'simulate', ...task }, { signal })) as SimulateTaskResult;
     if (!result.ok) throw failed(result.failure);
-    res.json({ ...result, warnings: task.warnings });
+    const { problems } = soundVariants(result.report.variants);
+    if (problems.length > 0) throw failed(problems.join('; '));
+    res.json({ ...result, warnings });
   });
 
   app.post('/api/design', async (req, res) => {
     const { scenario, warnings } = readScenarioBody(req.body, ['scenario', 'columns']);
     const capMs = 6 * runTimeCapMs; // a design verifies several corners of the full model and its adjustments
-    const result = await admitted(capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, deadlineMs: Date.now() + capMs }, { signal })) as DesignTaskResult;
+    refuseOverBudget(checkWorkBudget(scenario, designVariantRuns(scenario), capMs / 1000, capHint));
+    const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, capMs }, { signal })) as DesignTaskResult;
     if (!result.ok) throw failed(result.failure, 'design');
+    const notFinite = nonFinitePaths(result.design);
+    if (notFinite.length > 0) throw failed(`the design has no finite value for ${notFinite.join(', ')}`, 'design');
     res.json({ ...result, warnings });
   });
 
@@ -119,7 +196,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
       const strings = (v: unknown, name: string): string[] => {
         if (v === undefined) return [];
         if (Array.isArray(v) && v.every((x) => typeof x === 'string')) return v as string[];
-        throw new StudySpecError(`--${name}: expected a list of texts, found ${JSON.stringify(v)}`);
+        throw new StudySpecError(`--${name}: expected a list of texts, found ${describeBrief(v)}`);
       };
       chosen = choosePoints({
         vary: strings(body.vary, 'vary'), corners: body.corners === true, tolerance: strings(body.tolerance, 'tolerance'),
@@ -132,16 +209,18 @@ export function createServer(given: ServerOptions): FlyclampServer {
       throw new HttpError(400, 'invalid request', [{ path: `body.${flag}`, message: error.message.replace(/^--\w+:?\s*/, '') }]);
     }
     const capMs = 6 * runTimeCapMs;
-    studyPool ??= createStudyPool(maxConcurrentRuns);
-    const pool = studyPool;
-    const study = await admitted(capMs, (signal) => runStudy(base, chosen.points, { pool, signal, deadlineMs: Date.now() + capMs }));
-    if (study.interrupted) throw new HttpError(504, `the sweep took longer than its time cap of ${capMs / 1000} s`);
+    checkStudyBudget(base, chosen.points, body.samples !== undefined ? 'body.samples' : 'body.vary', capMs, runTimeCapMs, maxConcurrentRuns);
+    // The study's points stop at its cap and the finished ones are answered: a sweep that runs out
+    // of time still returns its work.
+    const study = await admitted(res, capMs, (signal) => runStudy(base, chosen.points, { pool: currentStudyPool(), signal, deadlineMs: Date.now() + capMs, taskCapMs: runTimeCapMs }));
     const points = study.points;
     const derated = scenario.switch.voltageRating * drainDerating(scenario);
     res.json({
       kind: chosen.kind, voltageRating: scenario.switch.voltageRating, deratedLimit: derated, points,
       worst: worstPerVariant(points),
       ...(chosen.kind === 'monte-carlo' ? { monteCarlo: peakDistribution(points, derated) } : {}),
+      pointsRequested: chosen.points.length,
+      ...(study.interrupted ? { interrupted: `the sweep reached its time cap of ${capMs / 1000} s: ${points.length} of ${chosen.points.length} points finished` } : {}),
     });
   });
 
@@ -170,6 +249,39 @@ export function createServer(given: ServerOptions): FlyclampServer {
   return { app, close: async () => { await pool.destroy(); await studyPool?.destroy(); } };
 }
 
+const capHint = (): string => 'run it from the command line, whose budget --max-seconds can be raised (the server caps each run)';
+
+/** Over the recorded-sample budget: 413 (too large a request); over the time estimate: 422. */
+function refuseOverBudget(refusals: BudgetRefusal[]): void {
+  const samples = refusals.filter((r) => r.kind === 'recorded-samples').map(({ path, message }) => ({ path, message }));
+  if (samples.length > 0) throw new HttpError(413, 'the request is larger than the server runs', samples);
+  if (refusals.length > 0) throw new HttpError(422, 'the request would take longer than the server allows', refusals.map(({ path, message }) => ({ path, message })));
+}
+
+/** Each point within a run's budget, and the study as a whole within its recorded samples and its cap. */
+function checkStudyBudget(base: Record<string, unknown>, points: ReadonlyArray<Record<string, number>>, field: string, studyCapMs: number, runCapMs: number, workers: number): void {
+  let samples = 0, seconds = 0;
+  for (const [index, values] of points.entries()) {
+    const at = validateScenario(scenarioAtPoint(base as ScenarioJson, values));
+    if (!at.ok) continue; // fails on its own, with its reason, as a point
+    const variants = availableVariants(at.scenario);
+    // Each variant is its own task with its own cap.
+    const refusals = variants.flatMap((v) => checkWorkBudget(at.scenario, [v], runCapMs / 1000, capHint));
+    if (refusals.length > 0) {
+      refuseOverBudget(refusals.map((r) => ({ ...r, message: `at point ${index + 1}: ${r.message}` })));
+    }
+    const estimate = estimateWork(at.scenario, variants);
+    samples += variants.length * estimate.recordedSamples;
+    seconds += estimate.estimatedSeconds;
+  }
+  if (samples > MAX_STUDY_RECORDED_SAMPLES) {
+    throw new HttpError(413, 'the request is larger than the server runs', [{ path: field, message: `expected a study of at most ${MAX_STUDY_RECORDED_SAMPLES} recorded samples in all (points × variants × recorded cycles × samples per cycle), found ${samples}: fewer points, or fewer recorded cycles (at most ${MAX_RECORDED_SAMPLES} per variant)` }]);
+  }
+  if (seconds / workers > studyCapMs / 1000) {
+    throw new HttpError(422, 'the request would take longer than the server allows', [{ path: field, message: `expected a study that runs within its cap of ${studyCapMs / 1000} s, found an estimated ${Math.round(seconds / workers)} s on ${workers} worker(s): fewer points` }]);
+  }
+}
+
 /** The issues of a body whose `scenario` is a scenario object; `allowed` are its known fields. */
 function inspectScenarioBody(body: unknown, allowed: readonly string[]): { validated: ValidationResult; issues: ValidationIssue[] } {
   if (typeof body !== 'object' || body === null || Array.isArray(body)) {
@@ -194,18 +306,20 @@ function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & {
   let chosen: VariantName[] | undefined;
   if (variants !== undefined) {
     if (!Array.isArray(variants) || variants.length === 0 || !variants.every((v) => (VARIANT_NAMES as readonly unknown[]).includes(v))) {
-      issues.push({ path: 'body.variants', message: `expected a non-empty list of ${VARIANT_NAMES.join(', ')}, found ${JSON.stringify(variants)}` });
+      issues.push({ path: 'body.variants', message: `expected a non-empty list of ${VARIANT_NAMES.join(', ')}, found ${describeBrief(variants)}` });
+    } else if (new Set(variants).size !== variants.length) {
+      issues.push({ path: 'body.variants', message: `expected each variant at most once, found ${describeBrief(variants)}` });
     } else chosen = variants as VariantName[];
   }
   let win: SimulateTask['window'];
   if (window !== undefined) {
     const w = window as { startSeconds?: unknown; endSeconds?: unknown };
     if (typeof w !== 'object' || w === null || typeof w.startSeconds !== 'number' || typeof w.endSeconds !== 'number' || !(w.endSeconds > w.startSeconds)) {
-      issues.push({ path: 'body.window', message: `expected { startSeconds, endSeconds } with end after start, found ${JSON.stringify(window)}` });
+      issues.push({ path: 'body.window', message: `expected { startSeconds, endSeconds } with end after start, found ${describeBrief(window)}` });
     } else win = { startSeconds: w.startSeconds, endSeconds: w.endSeconds };
   }
   if (columns !== undefined && !(Number.isInteger(columns) && (columns as number) >= 10 && (columns as number) <= MAX_COLUMNS)) {
-    issues.push({ path: 'body.columns', message: `expected a whole number from 10 to ${MAX_COLUMNS}, found ${JSON.stringify(columns)}` });
+    issues.push({ path: 'body.columns', message: `expected a whole number from 10 to ${MAX_COLUMNS}, found ${describeBrief(columns)}` });
   }
   if (issues.length > 0 || !validated.ok) throw new HttpError(400, 'invalid request', issues);
   const scenario = validated.scenario;
@@ -215,11 +329,18 @@ function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & {
   if (missing.length > 0) {
     throw new HttpError(400, 'invalid request', [{ path: 'body.variants', message: `expected variants this scenario supports (${supported.join(', ')}), found ${missing.join(', ')}` }]);
   }
+  refuseOverBudget(checkWorkBudget(scenario, wanted, runTimeCapMs / 1000, capHint));
   return {
     scenario, variants: wanted, columns: (columns as number | undefined) ?? 1500, warnings: validated.warnings,
-    deadlineMs: Date.now() + runTimeCapMs,
+    capMs: runTimeCapMs,
     ...(win ? { window: win } : {}),
   };
+}
+
+/** A value as found, short: the limits middleware has bounded its nesting, this bounds its length. */
+function describeBrief(value: unknown): string {
+  const text = JSON.stringify(value) ?? String(value);
+  return text.length > 80 ? `${text.slice(0, 77)}...` : text;
 }
 
 async function listScenarios(dir: string): Promise<Array<{ id: string; name: string }>> {

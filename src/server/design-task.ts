@@ -7,14 +7,15 @@ import { designClamp, type DesignResult } from '../design/design-clamp.js';
 import { DesignImpossible } from '../design/hand-design.js';
 import { SimulationFailure } from '../simulation/run-variant.js';
 
-export interface DesignTask { scenario: Scenario; columns: number; deadlineMs: number }
+/** `capMs`: the time cap, counted from when the worker starts the task. */
+export interface DesignTask { scenario: Scenario; columns: number; capMs: number }
 export type DesignTaskResult =
   | { ok: true; design: DesignResult; worstCaseTraces: Partial<Record<VariantName, ReducedTrace>> }
   | { ok: false; failure: string };
 
 export function runDesignTask(task: DesignTask): DesignTaskResult {
   try {
-    const { worstCaseRuns, ...design } = designClamp(task.scenario, { deadlineMs: task.deadlineMs });
+    const { worstCaseRuns, ...design } = designClamp(task.scenario, { deadlineMs: Date.now() + task.capMs });
     const worstCaseTraces: Partial<Record<VariantName, ReducedTrace>> = {};
     for (const run of worstCaseRuns) {
       const w = run.recorder.waveform;

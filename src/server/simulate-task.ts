@@ -13,7 +13,8 @@ export interface SimulateTask {
   /** Window within the recorded cycles, seconds from their start; default all of them. */
   window?: { startSeconds: number; endSeconds: number };
   columns: number;
-  deadlineMs: number;
+  /** Time cap of the run, ms, counted from when the worker starts it (time queued does not count). */
+  capMs: number;
 }
 
 export interface DisplayTraces {
@@ -29,9 +30,10 @@ export type SimulateTaskResult =
 
 export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const runs: VariantRun[] = [];
+  const deadlineMs = Date.now() + task.capMs;
   try {
-    const scenario = settleOperatingPoint(task.scenario, { deadlineMs: task.deadlineMs }).scenario;
-    for (const v of task.variants) runs.push(runVariant(scenario, v, { deadlineMs: task.deadlineMs }));
+    const scenario = settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
+    for (const v of task.variants) runs.push(runVariant(scenario, v, { deadlineMs }));
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;

@@ -31,7 +31,9 @@ export function choosePoints(request: StudyRequest, nominal: (path: string) => n
   if (request.tolerance.length > 0) throw new StudySpecError('--tolerance: expected --samples N with it (Monte Carlo), found none');
   if (request.vary.length === 0) throw new StudySpecError('--vary: expected at least one PATH=FROM..TO[:STEPS] (or --samples N with --tolerance), found none');
   const ranges = request.vary.map((v) => parseVary(v, nominal));
+  // Counted before the grid is made: three ranges of 1000 steps would be 10⁹ points in memory.
+  const count = ranges.reduce((n, r) => n * (request.corners ? Math.min(r.steps, 2) : r.steps), 1);
+  if (count > maxPoints) throw new StudySpecError(`--vary: expected at most ${maxPoints} points, found ${count}`);
   const points = request.corners ? cornerPoints(ranges) : gridPoints(ranges);
-  if (points.length > maxPoints) throw new StudySpecError(`--vary: expected at most ${maxPoints} points, found ${points.length}`);
   return { kind: request.corners ? 'corners' : 'grid', points };
 }

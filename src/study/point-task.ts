@@ -4,6 +4,7 @@
 import { validateScenario, formatIssues } from '../circuit/validate-scenario.js';
 import { availableVariants, type VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
+import { soundVariants } from '../analysis/result-checks.js';
 import { runVariant, SimulationFailure } from '../simulation/run-variant.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
 
@@ -11,18 +12,24 @@ export interface PointTask {
   scenarioJson: Record<string, unknown>;
   /** Only these variants (a point split across workers); all the scenario supports by default. */
   variants?: VariantName[];
+  /** The whole study's deadline (a Date.now() value). */
   deadlineMs?: number;
+  /** Time cap of this task, ms, counted from when a worker starts it, so time queued does not count. */
+  capMs?: number;
 }
 export type PointResult = { ok: true; report: SimulationReport } | { ok: false; failure: string };
 
 export function runPointTask(task: PointTask): PointResult {
   const validated = validateScenario(task.scenarioJson);
   if (!validated.ok) return { ok: false, failure: `invalid at this point: ${formatIssues(validated.issues).replace(/\n/g, '; ')}` };
+  const deadlines = [task.deadlineMs, task.capMs === undefined ? undefined : Date.now() + task.capMs].filter((d): d is number => d !== undefined);
+  const options = deadlines.length > 0 ? { deadlineMs: Math.min(...deadlines) } : {};
   try {
-    const options = task.deadlineMs === undefined ? {} : { deadlineMs: task.deadlineMs };
     const scenario = settleOperatingPoint(validated.scenario, options).scenario;
     const runs = (task.variants ?? availableVariants(scenario)).map((v) => runVariant(scenario, v, options));
-    return { ok: true, report: simulationReport(scenario, runs) };
+    const report = simulationReport(scenario, runs);
+    const { problems } = soundVariants(report.variants);
+    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report };
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;

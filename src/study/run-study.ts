@@ -16,7 +16,12 @@ export interface StudyPoint {
   failure?: string;
 }
 
-export interface StudyRun { points: StudyPoint[]; interrupted: boolean; deratedLimit: number; voltageRating: number }
+export interface StudyRun {
+  points: StudyPoint[];
+  /** Stopped before every point finished: by the signal (Ctrl-C, a closed request) or at the deadline. */
+  interrupted: boolean;
+  stoppedBy?: 'signal' | 'deadline';
+}
 
 export interface StudyOptions {
   /** Worker processes (default one per core); 0 runs the points one after another in this process. */
@@ -24,8 +29,10 @@ export interface StudyOptions {
   /** A pool to use (and keep) instead of one made for this study, e.g. a warm one. */
   pool?: StudyPool;
   signal?: AbortSignal;
-  /** Points still running past this Date.now() fail with a time-cap message. */
+  /** At this Date.now() the study stops: queued points are dropped, running ones stopped, finished ones kept. */
   deadlineMs?: number;
+  /** Time cap of each point's variant, ms, from when a worker starts it. */
+  taskCapMs?: number;
   onProgress?: (done: number, total: number, failed: number) => void;
 }
 
@@ -47,13 +54,19 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
   const total = pointValues.length;
   const points: Array<StudyPoint | undefined> = new Array(total);
   let done = 0, failed = 0;
-  let deratedLimit = NaN, voltageRating = NaN;
+  // One signal for both ways to stop, so the pool drops queued tasks and stops running ones alike.
+  const stop = new AbortController();
+  let stoppedBy: StudyRun['stoppedBy'];
+  const stopFor = (why: NonNullable<StudyRun['stoppedBy']>): void => { stoppedBy ??= why; stop.abort(); };
+  const onSignal = (): void => stopFor('signal');
+  if (options.signal?.aborted) stopFor('signal');
+  options.signal?.addEventListener('abort', onSignal, { once: true });
+  const timer = options.deadlineMs === undefined ? undefined : setTimeout(() => stopFor('deadline'), Math.max(0, options.deadlineMs - Date.now()));
   const record = (index: number, result: PointResult): void => {
+    if (stop.signal.aborted) return; // finished as the study stopped: its result may be a stop artefact
     const values = pointValues[index]!;
     if (result.ok) {
       points[index] = { index, values, variants: result.report.variants };
-      deratedLimit = result.report.deratedLimit;
-      voltageRating = result.report.voltageRating;
     } else {
       points[index] = { index, values, failure: result.failure };
       failed++;
@@ -62,43 +75,54 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
     options.onProgress?.(done, total, failed);
   };
   const scenarioAt = (index: number): ScenarioJson => scenarioAtPoint(base, pointValues[index]!);
-  const deadline = options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs };
+  const deadline = {
+    ...(options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs }),
+    ...(options.taskCapMs === undefined ? {} : { capMs: options.taskCapMs }),
+  };
 
-  if (!options.pool && (options.workers ?? 1) === 0) {
-    for (let i = 0; i < total && !options.signal?.aborted; i++) {
-      record(i, runPointTask({ scenarioJson: scenarioAt(i), ...deadline }));
-      await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
-    }
-  } else {
-    const pool = options.pool ?? createStudyPool(options.workers);
-    // Each variant of a point is its own task: with few points and two workers, whole points
-    // would leave one worker idle at the end (9 points: at best 9/5 = 1.8×).
-    const runPoint = async (i: number): Promise<PointResult> => {
-      const scenarioJson = scenarioAt(i);
-      const validated = validateScenario(scenarioJson);
-      if (!validated.ok) return runPointTask({ scenarioJson }); // reports the issues
-      const parts = await Promise.all(availableVariants(validated.scenario).map((v) => pool.run({ scenarioJson, variants: [v], ...deadline }, options.signal)));
-      const failure = parts.find((r): r is Extract<PointResult, { ok: false }> => !r.ok);
-      if (failure) return failure;
-      const reports = parts.map((r) => (r as Extract<PointResult, { ok: true }>).report);
-      return { ok: true, report: { ...reports[0]!, variants: Object.assign({}, ...reports.map((r) => r.variants)) as SimulationReport['variants'] } };
-    };
-    try {
-      await Promise.all(pointValues.map(async (_, i) => {
-        try {
-          record(i, await runPoint(i));
-        } catch (error) {
-          if (options.signal?.aborted) return;
-          record(i, { ok: false, failure: `worker error: ${(error as Error).message}` });
-        }
-      }));
-    } finally {
-      if (!options.pool) await pool.destroy();
-    }
+  try {
+    await runPoints();
+  } finally {
+    if (timer) clearTimeout(timer);
+    options.signal?.removeEventListener('abort', onSignal);
   }
   return {
     points: points.filter((p): p is StudyPoint => p !== undefined),
-    interrupted: options.signal?.aborted ?? false,
-    deratedLimit, voltageRating,
+    interrupted: stoppedBy !== undefined,
+    ...(stoppedBy ? { stoppedBy } : {}),
   };
+
+  async function runPoints(): Promise<void> {
+    if (!options.pool && (options.workers ?? 1) === 0) {
+      for (let i = 0; i < total && !stop.signal.aborted; i++) {
+        record(i, runPointTask({ scenarioJson: scenarioAt(i), ...deadline }));
+        await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
+      }
+    } else {
+      const pool = options.pool ?? createStudyPool(options.workers);
+      // Each variant of a point is its own task: with few points and two workers, whole points
+      // would leave one worker idle at the end (9 points: at best 9/5 = 1.8×).
+      const runPoint = async (i: number): Promise<PointResult> => {
+        const scenarioJson = scenarioAt(i);
+        const validated = validateScenario(scenarioJson);
+        if (!validated.ok) return runPointTask({ scenarioJson }); // reports the issues
+        const parts = await Promise.all(availableVariants(validated.scenario).map((v) => pool.run({ scenarioJson, variants: [v], ...deadline }, stop.signal)));
+        const failure = parts.find((r): r is Extract<PointResult, { ok: false }> => !r.ok);
+        if (failure) return failure;
+        const reports = parts.map((r) => (r as Extract<PointResult, { ok: true }>).report);
+        return { ok: true, report: { ...reports[0]!, variants: Object.assign({}, ...reports.map((r) => r.variants)) as SimulationReport['variants'] } };
+      };
+      try {
+        await Promise.all(pointValues.map(async (_, i) => {
+          try {
+            record(i, await runPoint(i));
+          } catch (error) {
+            record(i, { ok: false, failure: `worker error: ${(error as Error).message}` });
+          }
+        }));
+      } finally {
+        if (!options.pool) await pool.destroy();
+      }
+    }
+  }
 }

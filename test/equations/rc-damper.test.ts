@@ -3,13 +3,13 @@ import { designDamper, type DamperInputs } from '../../src/equations/rc-damper.j
 
 // RC damper: Rs ≈ √(L/Cp), Cs ≈ 3–4 × Cp, loss ≈ Cs·V²·fsw. Todd, "Snubber Circuits: Theory,
 // Design and Application", Unitrode SEM-900, 1993; Severns, "Design of Snubbers for Power Circuits"
-// (as quoted in references.md; neither at hand). Check values: L = 10 µH, Cp = 100 pF → Z0 = 316 Ω
-// (references.md worked values); the loss figures below are arithmetic on the published form.
+// (neither at hand, from memory). Check values: L = 10 µH, Cp = 100 pF → Z0 = √(L/Cp) = 316 Ω
+// (arithmetic on that form); the loss figures below are arithmetic on the published form.
 
 const base: DamperInputs = { leakageInductance: 10e-6, drainCapacitance: 100e-12, frequency: 100e3, voltageStep: 200 };
 
 describe('designDamper', () => {
-  it('designDamper(10 µH, 100 pF) gives Rs = Z0 = 316 Ω (references.md check value)', () => {
+  it('designDamper(10 µH, 100 pF) gives Rs = Z0 = 316 Ω (√(L/Cp), Todd SEM-900; arithmetic)', () => {
     const design = designDamper(base);
     expect(design.characteristicImpedance).toBeCloseTo(316.2, 1);
     expect(design.resistance).toBe(design.characteristicImpedance);

@@ -3,8 +3,8 @@ import { extractFromAddedCapacitor, ringFrequency, type RingParameters } from '.
 
 // Added-capacitor method: Cp = Cadd/((f1/f2)² − 1), L = 1/((2π·f1)²·Cp). Todd, "Snubber Circuits:
 // Theory, Design and Application", Unitrode SEM-900, 1993; Severns, "Design of Snubbers for Power
-// Circuits" (as quoted in references.md; neither document at hand). Check values: references.md
-// worked values (arithmetic, not published): L = 10 µH, Cp = 100 pF → f1 = 5.033 MHz, Z0 = 316 Ω;
+// Circuits" (neither document at hand, from memory). Check values, arithmetic on those forms
+// (not published): L = 10 µH, Cp = 100 pF → f1 = 5.033 MHz, Z0 = 316 Ω;
 // adding 300 pF halves the frequency.
 
 function expectRelativelyClose(actual: number, expected: number, relative: number): void {
@@ -19,11 +19,11 @@ function extracted(f1: number, f2: number, addedCapacitance: number): RingParame
 }
 
 describe('ringFrequency', () => {
-  it('ringFrequency(10 µH, 100 pF) is 5.033 MHz (f0 = 1/(2π√(LC)), any circuits text; references.md check value)', () => {
+  it('ringFrequency(10 µH, 100 pF) is 5.033 MHz (f0 = 1/(2π√(LC)): Nilsson & Riedel, Electric Circuits; arithmetic)', () => {
     expect(ringFrequency(10e-6, 100e-12) / 1e6).toBeCloseTo(5.033, 3);
   });
 
-  it('ringFrequency(10 µH, 100 pF + 300 pF) is half of ringFrequency(10 µH, 100 pF) (references.md)', () => {
+  it('ringFrequency(10 µH, 100 pF + 300 pF) is half of ringFrequency(10 µH, 100 pF) (f0 ∝ 1/√C: a fourfold capacitance halves it)', () => {
     expectRelativelyClose(ringFrequency(10e-6, 400e-12), ringFrequency(10e-6, 100e-12) / 2, 1e-14);
   });
 
@@ -39,7 +39,7 @@ describe('ringFrequency', () => {
 });
 
 describe('extractFromAddedCapacitor', () => {
-  it('extractFromAddedCapacitor(f1 = 5.033 MHz, f2 = f1/2, Cadd = 300 pF) gives Cp = 100 pF, L = 10 µH, Z0 = 316 Ω (Todd SEM-900; references.md check values)', () => {
+  it('extractFromAddedCapacitor(f1 = 5.033 MHz, f2 = f1/2, Cadd = 300 pF) gives Cp = 100 pF, L = 10 µH, Z0 = 316 Ω (Todd SEM-900; arithmetic on its form)', () => {
     const f1 = ringFrequency(10e-6, 100e-12);
     const result = extracted(f1, f1 / 2, 300e-12);
     expectRelativelyClose(result.parasiticCapacitance, 100e-12, 1e-12);

@@ -17,7 +17,10 @@ async function start(options: Partial<Parameters<typeof createServer>[0]> = {}):
   return { base: `http://127.0.0.1:${(listener.address() as AddressInfo).port}`, server, listener };
 }
 async function stop(s: Started): Promise<void> {
-  await new Promise<void>((ok) => s.listener.close(() => ok()));
+  // fetch keeps connections alive; close() alone would wait for them to time out.
+  const closed = new Promise<void>((ok) => s.listener.close(() => ok()));
+  s.listener.closeAllConnections();
+  await closed;
   await s.server.close();
 }
 const post = (base: string, body: unknown): Promise<Response> =>
@@ -134,9 +137,13 @@ describe('HTTP API: design and sweep', () => {
 
 describe('HTTP API limits', () => {
   it('a run over its time cap answers 504 with a clear message', async () => {
-    const s = await start({ runTimeCapMs: 1 });
+    // Within the cost estimate (0.33 s: the default solver tolerance, 30 cycles), but at the
+    // tightest tolerances it runs about 300 cycles, some 3 s, until the cap stops it.
+    const s = await start({ runTimeCapMs: 1200 });
     try {
-      const res = await post(s.base, { scenario: await demo('mains-aux-12v') });
+      const scenario = await demo('mains-aux-12v');
+      scenario.simulation = { settleTolerance: 1e-12, relativeTolerance: 1e-12, maxCycles: 100_000 };
+      const res = await post(s.base, { scenario, variants: ['bare'] });
       expect(res.status).toBe(504);
       expect(((await res.json()) as { error: string }).error).toMatch(/time cap/);
     } finally { await stop(s); }

@@ -17,6 +17,8 @@ describe('parseVary(spec, nominal)', () => {
   it('reads SI-prefixed ends, with or without a unit, and defaults to 5 steps', () => {
     const r = parseVary('clamp.resistance=2.2k..4.7kΩ', nominal);
     expect([r.from, r.to, r.steps]).toEqual([2200, 4700, 5]);
+    const l = parseVary('transformer.leakageInductance=1uH..1.5u:3', nominal);
+    expect([l.from, l.to, l.steps]).toEqual([1e-6, 1.5e-6, 3]);
   });
 
   it.each([
@@ -26,6 +28,12 @@ describe('parseVary(spec, nominal)', () => {
     ['clamp.resistance=1k..abc', 'expected TO as a number'],
     ['clamp.resistance=1k..2k:1', 'expected STEPS from 2 to 1000'],
     ['clamp.resistance=1k..2k:5000', 'expected STEPS from 2 to 1000'],
+    ['clamp.resistance=1k..2k:abc', 'expected STEPS after the colon as a whole number from 2 to 1000, found "abc"'],
+    ['clamp.resistance=1k..2k:2.5', 'expected STEPS after the colon as a whole number'],
+    ['clamp.resistance=1...2k', 'FROM and TO separated by exactly two dots'],
+    ['clamp.resistance=1k..2k..3k', 'FROM and TO separated by exactly two dots'],
+    ['transformer.leakageInductance=1uV..2uA', 'expected FROM as a number in H or a string with an SI prefix'],
+    ['transformer.leakageInductance=1uH..2uF', 'expected TO as a number in H'],
   ])('rejects %s with a message saying what was expected', (spec, message) => {
     expect(() => parseVary(spec, nominal)).toThrow(StudySpecError);
     expect(() => parseVary(spec, nominal)).toThrow(message);
