@@ -1,6 +1,6 @@
 // Typical ratings of thick-film chip resistors and the derating a design keeps from them.
 // Case ratings: typical values of the IEC 60115-8 family (sectional specification for SMD fixed
-// resistors), as quoted in shared/design/references.md; a given part's datasheet governs. 2010 parts
+// resistors), from memory; a given part's datasheet governs. 2010 parts
 // come as 1/2 W and 3/4 W: the table takes 1/2 W, which is safe for both.
 // Power derating curve: full power up to 70 °C ambient, falling linearly to zero at 155 °C (same
 // family, from memory of the usual datasheet curve).

@@ -1,6 +1,6 @@
 // Preferred-number series for resistors and capacitors. Source: IEC 60063:2015, "Preferred number
-// series for resistors and capacitors". The E12 and E24 tables are as quoted in the project's
-// references (shared/design/references.md); the E96 table is from memory of the standard and its
+// series for resistors and capacitors". The E12 and E24 tables are from the standard's tables (from
+// memory); the E96 table is from memory of the standard and its
 // test checks it against round(10^(i/96), 2), which the references state holds exactly for E96.
 //
 // The tables are stored, not computed: eight E24 values (2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7, 8.2)

@@ -1,8 +1,7 @@
 // RC damper for the ring the clamp leaves behind (the leakage inductance against the drain
 // capacitance once the clamp diode stops conducting, and the magnetising ring in DCM). Sources:
 // Todd, "Snubber Circuits: Theory, Design and Application", Unitrode SEM-900, 1993; Severns, "Design
-// of Snubbers for Power Circuits" (neither at hand; the equations as quoted in
-// shared/design/references.md):
+// of Snubbers for Power Circuits" (neither at hand; the equations from memory):
 //   Rs ≈ √(Llk/Cp), the ring's characteristic impedance: the ring current, not just its voltage,
 //   must see a resistance of the order of Z0 to lose a good share of its energy each cycle;
 //   Cs ≈ k·Cp with k = 3–4 ("a few times Coss"): at the ring frequency Cs has a reactance of Z0/k,

@@ -3,7 +3,7 @@
 // (f1/f2)² = (Cp + Cadd)/Cp, so Cp = Cadd/((f1/f2)² − 1) and L = 1/((2π·f1)²·Cp).
 // Sources: Todd, "Snubber Circuits: Theory, Design and Application", Unitrode Power Supply Design
 // Seminar SEM-900, 1993; Severns, "Design of Snubbers for Power Circuits". Both texts were not at
-// hand: the equations are as quoted in shared/design/references.md.
+// hand: the equations are from memory of them.
 //
 // Errors are returned, not thrown: the inputs are bench measurements typed in by a person, so a
 // swapped f1/f2 is an expected outcome the caller reports against the field, not a program fault.
