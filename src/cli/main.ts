@@ -2,13 +2,10 @@
 // flyclamp command line. Exit codes: 0 success, 1 simulation failure, 2 bad input.
 
 import { Command, CommanderError, Option } from 'commander';
-import { runSimulateCommand } from './simulate-command.js';
-import { DEFAULT_PORT, runServeCommand } from './serve-command.js';
-import { runSweepCommand, type SweepOptions } from './sweep-command.js';
-import { runDesignCommand } from './design-command.js';
-import { runFitCommand, type FitCommandOptions } from './fit-command.js';
+import type { SweepOptions } from './sweep-command.js';
+import type { FitCommandOptions } from './fit-command.js';
 import { BadInput, SimulationFailed } from './cli-errors.js';
-import { DEFAULT_MAX_SECONDS } from './work-limits.js';
+import { DEFAULT_MAX_SECONDS, DEFAULT_PORT } from './work-limits.js';
 
 const program = new Command('flyclamp')
   .description('Settled switching-node simulator for flyback RCD clamps and RC dampers')
@@ -24,7 +21,8 @@ program.command('simulate')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
   .option('--max-seconds <s>', `work budget: refuse a run estimated over it, stop one that runs over it (default ${DEFAULT_MAX_SECONDS})`)
   .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped'; maxSeconds?: string }) => {
-    await runSimulateCommand(file, options);
+    // Each command loads only what it uses: `simulate` need not load the server's stack.
+    await (await import('./simulate-command.js')).runSimulateCommand(file, options);
   });
 
 program.command('design')
@@ -34,7 +32,7 @@ program.command('design')
   .option('--report <file.html>', 'write a self-contained HTML report')
   .option('--max-seconds <s>', `work budget of the whole design (default ${DEFAULT_MAX_SECONDS})`)
   .action(async (file: string, options: { json?: boolean; report?: string; maxSeconds?: string }) => {
-    await runDesignCommand(file, options);
+    await (await import('./design-command.js')).runDesignCommand(file, options);
   });
 
 program.command('fit')
@@ -48,7 +46,7 @@ program.command('fit')
   .option('--out <fitted.json>', 'write the fitted scenario (never over an input)')
   .option('--workers <n>', 'worker processes for the simulations (default: one per core, at most 3; 0: this process only)')
   .action(async (capture: string, scenario: string, options: FitCommandOptions) => {
-    await runFitCommand(capture, scenario, options);
+    await (await import('./fit-command.js')).runFitCommand(capture, scenario, options);
   });
 
 const collect = (value: string, previous: string[]): string[] => [...previous, value];
@@ -66,7 +64,7 @@ program.command('sweep')
   .option('--progress', 'report progress even when stderr is not a terminal (one line per point)')
   .option('--max-seconds <s>', `work budget of each point's variant (default ${DEFAULT_MAX_SECONDS})`)
   .action(async (file: string, options: SweepOptions) => {
-    await runSweepCommand(file, options);
+    await (await import('./sweep-command.js')).runSweepCommand(file, options);
   });
 
 program.command('serve')
@@ -75,7 +73,7 @@ program.command('serve')
   .option('--port <n>', 'port to listen on (0: any free port)', String(DEFAULT_PORT))
   .option('--host <h>', 'address to bind', '127.0.0.1')
   .action(async (file: string | undefined, options: { port: string; host: string }) => {
-    await runServeCommand(file, options);
+    await (await import('./serve-command.js')).runServeCommand(file, options);
   });
 
 async function main(): Promise<number> {

@@ -9,7 +9,6 @@ export interface ServeOptions { port: string; host: string }
 
 /** The package root: dist/cli → two levels up; src/cli under tsx likewise. */
 const packageRoot = resolve(dirname(fileURLToPath(import.meta.url)), '..', '..');
-export const DEFAULT_PORT = 5187;
 
 export async function runServeCommand(file: string | undefined, options: ServeOptions): Promise<void> {
   const port = Number(options.port);

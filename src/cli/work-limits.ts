@@ -34,3 +34,6 @@ export function enforceWorkBudget(scenario: Scenario, variants: readonly Variant
 export function withBudgetHint(failure: string, maxSeconds: number): string {
   return /time cap/.test(failure) ? `${failure}; the budget is --max-seconds ${maxSeconds}: pass a larger value to let it run longer` : failure;
 }
+
+/** The page's port unless --port says otherwise (kept here, away from the server's modules, so the CLI loads them only for serve). */
+export const DEFAULT_PORT = 5187;
