@@ -20,7 +20,8 @@ program.command('simulate')
   .option('--csv <file>', 'write the settled waveforms as CSV')
   .addOption(new Option('--variant <name>', 'run one variant only').choices(['bare', 'clamp', 'damped']))
   .option('--max-seconds <s>', `work budget: refuse a run estimated over it, stop one that runs over it (default ${DEFAULT_MAX_SECONDS})`)
-  .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped'; maxSeconds?: string }) => {
+  .option('--progress', 'report settling progress even when stderr is not a terminal')
+  .action(async (file: string, options: { json?: boolean; csv?: string; variant?: 'bare' | 'clamp' | 'damped'; maxSeconds?: string; progress?: boolean }) => {
     // Each command loads only what it uses: `simulate` need not load the server's stack.
     await (await import('./simulate-command.js')).runSimulateCommand(file, options);
   });

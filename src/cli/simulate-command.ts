@@ -11,7 +11,25 @@ import { waveformCsv, waveformCsvSize } from './waveform-csv.js';
 import { checkOutputPath, writeFileAtomic } from './write-atomic.js';
 import { enforceWorkBudget, readMaxSeconds, withBudgetHint } from './work-limits.js';
 
-export interface SimulateOptions { json?: boolean; csv?: string; variant?: VariantName; maxSeconds?: string }
+export interface SimulateOptions { json?: boolean; csv?: string; variant?: VariantName; maxSeconds?: string; progress?: boolean }
+
+/**
+ * Settling progress on stderr (a terminal, or --progress): the variant, cycles so far and the last
+ * change against the settle tolerance, at most four times a second, so a long run shows it is moving.
+ */
+function progressReporter(enabled: boolean): { onCycle: (variant: VariantName) => (cycles: number, change: number) => void; done: () => void } {
+  let last = 0, shown = false;
+  return {
+    onCycle: (variant) => (cycles, change) => {
+      const now = Date.now();
+      if (!enabled || now - last < 250) return;
+      last = now;
+      shown = true;
+      process.stderr.write(`${process.stderr.isTTY ? '\r' : ''}${variant}: cycle ${cycles}${Number.isFinite(change) ? `, change ${change.toExponential(1)} of the scale` : ''}${process.stderr.isTTY ? '   ' : '\n'}`);
+    },
+    done: () => { if (shown && process.stderr.isTTY) process.stderr.write('\n'); },
+  };
+}
 
 /** Above this a CSV gets a warning with its size before it is written (it is streamed, so memory stays flat). */
 export const CSV_WARNING_BYTES = 50 * 1024 * 1024;
@@ -34,19 +52,21 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   const runs: VariantRun[] = [];
   const failures: string[] = [];
   try {
-    scenario = settleOperatingPoint(scenario).scenario;
+    scenario = settleOperatingPoint(scenario, { deadlineMs }).scenario;
   } catch (error) {
     if (!(error instanceof SimulationFailure)) throw error;
     throw new SimulationFailed(error.message);
   }
+  const progress = progressReporter(options.progress === true || process.stderr.isTTY === true);
   for (const v of variants) {
     try {
-      runs.push(runVariant(scenario, v, { deadlineMs }));
+      runs.push(runVariant(scenario, v, { deadlineMs, onCycle: progress.onCycle(v) }));
     } catch (error) {
       if (!(error instanceof SimulationFailure)) throw error;
       failures.push(`${v}: ${withBudgetHint(error.message, maxSeconds)}`);
     }
   }
+  progress.done();
   const full = runs.length > 0 ? simulationReport(scenario, runs) : undefined;
   // A variant with a number that did not come out finite, or an energy balance that does not
   // close, is a failure with its reason, not a result.

@@ -47,6 +47,8 @@ export interface RunOptions {
   extrapolate?: boolean;
   /** Run exactly this many cycles before recording, whatever the settle test says (benchmarks). */
   exactCycles?: number;
+  /** Called after each settling cycle with the count so far and the last change of the period-start state. */
+  onCycle?: (cycles: number, change: number) => void;
 }
 
 const MAX_EVENTS_PER_CYCLE = 20_000;
@@ -240,6 +242,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     if (extrapolator.jumps !== jumpsBefore) tracker.replaceLatest(x);
     runCycle(false);
     cycles++;
+    options.onCycle?.(cycles, tracker.lastChange);
     if (cycles % 16 === 0) checkDeadline();
   }
   while (!recorder.done) {

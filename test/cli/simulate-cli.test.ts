@@ -237,6 +237,18 @@ describe('flyclamp simulate (compiled CLI)', () => {
   }, CLI_TIMEOUT_MS);
 });
 
+describe('flyclamp simulate --progress', () => {
+  it('reports settling cycles per variant on stderr, and stdout still holds one JSON object', () => {
+    const gateDrive = join(root, 'scenarios', 'gate-drive-24v.json');
+    const r = runCli(['simulate', gateDrive, '--json', '--progress']);
+    expect(r.status).toBe(0);
+    const lines = r.stderr.split('\n').filter((l) => /^(bare|clamp|damped): cycle \d+/.test(l));
+    expect(lines.length).toBeGreaterThan(0);
+    expect(new Set(lines.map((l) => l.split(':')[0]))).toEqual(new Set(['bare', 'clamp', 'damped']));
+    expect(Object.keys((JSON.parse(r.stdout) as { variants: object }).variants)).toEqual(['bare', 'clamp', 'damped']);
+  }, CLI_TIMEOUT_MS);
+});
+
 describe('writeFileAtomic', () => {
   it('writeFileAtomic(new path) creates the file with the content and leaves no temporary file', async () => {
     const dir = await freshDir('atomic-new');
