@@ -70,6 +70,11 @@ export function designTable(d: DesignResult): string {
   }
   const l = d.losses;
   lines.push('', `Losses at "${l.corner}": clamp ${v(l.clamp, 'W')} + damper ${v(l.damper, 'W')} = ${v(l.total, 'W')}, ${(100 * l.share).toFixed(1)} % of the ${v(l.outputPower, 'W')} output; budget ${l.budget === null ? 'none' : v(l.budget, 'W')}: ${l.pass ? 'PASS' : 'FAIL'}`);
+  lines.push('', 'Parts tried at the worst case, least loss first (the design takes the first that passes with a damper)');
+  for (const c of d.candidates.slice(0, 6)) {
+    const damper = c.damper ? `damper ${v(c.damper.resistance, 'Ω')} + ${v(c.damper.capacitance, 'F')}` : 'no damper';
+    lines.push(`  ${c.pass ? 'pass' : 'FAIL'}  clamp ${v(c.clamp.resistance, 'Ω')} ∥ ${v(c.clamp.capacitance, 'F')}, ${damper}: peak ${v(c.peakDrainVoltage, 'V')}, loss ${v(c.totalLoss, 'W')}, ${c.partsCount} parts`);
+  }
   lines.push('', `Overall: ${d.pass ? 'PASS' : 'FAIL'} against the derated limit less the allowance at every corner, and the loss budget.`);
   for (const n of d.notes) lines.push(`Note: ${n}`);
   lines.push('', 'Design aid only, not compliance evidence: check parts against their datasheets and local codes. See the README, "Safety".');

@@ -39,6 +39,20 @@ export interface CornerReport {
   pass: boolean;
 }
 
+/** A set of preferred parts tried at the worst case: the clamp, and the damper or none. */
+export interface Candidate {
+  clamp: { resistance: number; capacitance: number };
+  damper: { resistance: number; capacitance: number } | null;
+  /** The higher of the clamp-alone and (with a damper) the damped peaks at the worst case, V. */
+  peakDrainVoltage: number;
+  /** Clamp resistor and diode plus damper resistor at the worst case, W. */
+  totalLoss: number;
+  /** Under the derated limit less the allowance, settled, and within the loss budget there. */
+  pass: boolean;
+  /** Parts in the build: clamp R and C, and the damper's two when fitted. */
+  partsCount: number;
+}
+
 export interface LossVerdict {
   /** At the worst-loss corner, clamp and damper fitted, W: the clamp's resistor and diode, the damper's resistor. */
   clamp: number;
@@ -81,6 +95,8 @@ export interface DesignResult {
   /** The corner with the least margin. */
   limitingCorner: string;
   losses: LossVerdict;
+  /** The parts tried at the worst case, cheapest (least loss) first; the design takes the cheapest passing one with a damper. */
+  candidates: Candidate[];
   pass: boolean;
   notes: string[];
 }
@@ -175,6 +191,21 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     }
   }
   if (!worst.corner.pass) notes.push(`After ${adjustments.length} resistor steps the worst case still exceeds the derated limit: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
+  // The cheapest parts that pass: neighbours of the chosen ones in the preferred series, with the
+  // designed damper, a smaller one, or none, tried at the worst case.
+  const candidates = searchCandidates(s, hand, parts, capacitanceFor, options.deadlineMs);
+  const cheapest = candidates.find((c) => c.pass && c.damper !== null);
+  if (cheapest && (cheapest.clamp.resistance !== parts.r || cheapest.damper!.capacitance !== parts.cs)) {
+    const trial = { r: cheapest.clamp.resistance, c: cheapest.clamp.capacitance, rs: cheapest.damper!.resistance, cs: cheapest.damper!.capacitance };
+    const tried = verify(s, hand, hand.worstCase, trial, options.deadlineMs);
+    if (tried.corner.pass) {
+      parts = trial;
+      worst = tried;
+      adjustments.push({ resistance: trial.r, capacitance: trial.c, worstCasePeak: peakOf(tried), reason: `the least loss among the preferred parts that pass at the worst case (${cheapest.totalLoss.toFixed(3)} W, damper ${trial.rs} Ω with ${(trial.cs * 1e12).toPrecision(3)} pF)` });
+    }
+  }
+  const noDamper = candidates.find((c) => c.pass && c.damper === null);
+  if (noDamper) notes.push(`Without a damper, clamp ${noDamper.clamp.resistance} Ω with ${(noDamper.clamp.capacitance * 1e9).toPrecision(3)} nF also passes at the worst case, at ${noDamper.totalLoss.toFixed(3)} W: the damper can be left out if the ring after the clamp is acceptable (verify the other corners with simulate).`);
   // Every other corner with the parts chosen at the worst case.
   // The bare circuit at the final worst case, for the plot and the table.
   const bare = runVariant(worst.at, 'bare', options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs });
@@ -222,10 +253,56 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     corners,
     limitingCorner: limiting.conditions.name,
     losses,
+    candidates,
     pass: verified.every((v) => v.corner.pass) && losses.pass,
     notes,
     worstCaseRuns: worst.runs,
   };
+}
+
+/**
+ * Every combination of the clamp resistor one step below to two steps above the chosen one (the
+ * capacitor following by the ripple rule) and the designed damper, its capacitor one or two
+ * preferred steps smaller, or none, at the worst case. The clamp-alone run does not depend on the
+ * damper, so each resistor costs one clamp run and one damped run per damper.
+ */
+function searchCandidates(s: Scenario, hand: HandDesign, parts: { r: number; c: number; rs: number; cs: number }, capacitanceFor: (r: number) => number, deadlineMs?: number): Candidate[] {
+  const t = hand.targets;
+  const options = deadlineMs === undefined ? {} : { deadlineMs };
+  const limit = hand.deratedLimit - hand.allowance;
+  const resistors = [stepInSeries(parts.r, t.resistorSeries, -1), parts.r, stepInSeries(parts.r, t.resistorSeries, +1), stepInSeries(stepInSeries(parts.r, t.resistorSeries, +1), t.resistorSeries, +1)];
+  const smaller = stepInSeries(parts.cs, t.capacitorSeries, -1);
+  const dampers: Array<{ resistance: number; capacitance: number } | null> = [
+    { resistance: parts.rs, capacitance: parts.cs },
+    { resistance: parts.rs, capacitance: smaller },
+    { resistance: parts.rs, capacitance: stepInSeries(smaller, t.capacitorSeries, -1) },
+    null,
+  ];
+  const budgetFor = (outputPower: number): number => (t.lossBudget.kind === 'absolute' ? t.lossBudget.value : t.lossBudget.value * outputPower);
+  const out: Candidate[] = [];
+  for (const r of resistors) {
+    const c = capacitanceFor(r);
+    const base = scenarioAtCorner(s, hand, hand.worstCase, { r, c, rs: parts.rs, cs: parts.cs });
+    const at = hand.worstCase.fromLoad ? settleOperatingPoint(base, options).scenario : base;
+    const clampAlone = simulationReport(at, [runVariant(at, 'clamp', options)]).variants.clamp!;
+    for (const damper of dampers) {
+      let peak = clampAlone.peakDrainVoltage, loss = (clampAlone.clampResistorPower ?? 0) + (clampAlone.clampDiodePower ?? 0);
+      let settled = clampAlone.settled, outputPower = clampAlone.outputPower;
+      if (damper) {
+        const withDamper: Scenario = { ...at, damper };
+        const m = simulationReport(withDamper, [runVariant(withDamper, 'damped', options)]).variants.damped!;
+        peak = Math.max(peak, m.peakDrainVoltage);
+        loss = (m.clampResistorPower ?? 0) + (m.clampDiodePower ?? 0) + (m.damperResistorPower ?? 0);
+        settled &&= m.settled;
+        outputPower = m.outputPower;
+      }
+      out.push({
+        clamp: { resistance: r, capacitance: c }, damper, peakDrainVoltage: peak, totalLoss: loss,
+        pass: settled && peak <= limit && outputPower > 0 && loss <= budgetFor(outputPower), partsCount: damper ? 4 : 2,
+      });
+    }
+  }
+  return out.sort((a, b) => a.totalLoss - b.totalLoss);
 }
 
 /** The loss of the built design (clamp and damper fitted) at the corner where it is highest, against the budget. */

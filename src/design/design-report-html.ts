@@ -98,6 +98,9 @@ ${rows(stress)}</table>
 ${rows(verification)}</table>
 <h2>Loss budget</h2>
 <p>At the corner "${esc(l.corner)}", clamp and damper fitted: clamp ${si(l.clamp, 'W')} (resistor and diode) + damper ${si(l.damper, 'W')} = ${si(l.total, 'W')}, ${(100 * l.share).toFixed(1)} % of the ${si(l.outputPower, 'W')} output; budget ${l.budget === null ? 'none' : si(l.budget, 'W')}: <b>${l.pass ? 'pass' : 'FAIL'}</b>.</p>
+<h2>Parts tried at the worst case</h2>
+<table><tr><th>clamp</th><th>damper</th><th>peak drain</th><th>clamp + damper loss</th><th>parts</th><th>verdict</th></tr>
+${rows(d.candidates.map((c) => [`${si(c.clamp.resistance, 'Ω')} ∥ ${si(c.clamp.capacitance, 'F')}`, c.damper ? `${si(c.damper.resistance, 'Ω')} + ${si(c.damper.capacitance, 'F')}` : 'none', si(c.peakDrainVoltage, 'V'), si(c.totalLoss, 'W'), String(c.partsCount), c.pass ? 'pass' : '<b>FAIL</b>']))}</table>
 <h3>Drain voltage at the worst case</h3>
 ${drainPlotSvg(worstCaseRuns, scenario.switch.voltageRating, h.deratedLimit)}
 ${d.notes.length ? `<h2>Notes</h2><ul>${d.notes.map((n) => `<li>${esc(n)}</li>`).join('')}</ul>` : ''}

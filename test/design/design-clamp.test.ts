@@ -142,6 +142,42 @@ describe('designClamp(scenario) verification', () => {
   }, 180_000);
 });
 
+describe('the search for the cheapest parts that pass', () => {
+  it('finds the least-loss passing set of a small grid, as an exhaustive search of that grid by simulate does', async () => {
+    const { readFile: read } = await import('node:fs/promises');
+    const raw = JSON.parse(await read('scenarios/gate-drive-24v.json', 'utf8')) as Record<string, unknown>;
+    raw.design = { lossBudget: '100%' };
+    const validated = validateScenario(raw);
+    if (!validated.ok) throw new Error('invalid');
+    const s = validated.scenario;
+    const d = designClamp(s);
+    expect(d.candidates.length).toBe(16);
+    // The same grid, simulated here one set at a time at the worst case.
+    const limit = d.hand.deratedLimit - d.allowance;
+    let best: { loss: number; r: number; cs: number | null } | null = null;
+    for (const c of d.candidates) {
+      const at = scenarioAtCorner(s, d.hand, d.hand.worstCase, { r: c.clamp.resistance, c: c.clamp.capacitance, rs: 1, cs: 1e-12 });
+      const clampAlone = variantMetrics(runVariant(at, 'clamp'), s.switch.voltageRating);
+      let peak = clampAlone.peakDrainVoltage, loss = clampAlone.clampResistorPower! + clampAlone.clampDiodePower!;
+      if (c.damper) {
+        const damped = variantMetrics(runVariant({ ...at, damper: c.damper }, 'damped'), s.switch.voltageRating);
+        peak = Math.max(peak, damped.peakDrainVoltage);
+        loss = damped.clampResistorPower! + damped.clampDiodePower! + damped.damperResistorPower!;
+      }
+      expect(Math.abs(loss - c.totalLoss)).toBeLessThan(1e-9 * Math.max(1, loss));
+      if (peak <= limit && (best === null || loss < best.loss)) best = { loss, r: c.clamp.resistance, cs: c.damper?.capacitance ?? null };
+    }
+    const found = d.candidates.find((c) => c.pass)!;
+    expect(best).not.toBeNull();
+    expect(found.clamp.resistance).toBe(best!.r);
+    expect(found.damper?.capacitance ?? null).toBe(best!.cs);
+    // The chosen parts are the cheapest passing set with a damper.
+    const withDamper = d.candidates.find((c) => c.pass && c.damper)!;
+    expect(d.clamp.resistance).toBe(withDamper.clamp.resistance);
+    expect(d.damper.capacitance).toBe(withDamper.damper!.capacitance);
+  }, 240_000);
+});
+
 describe('flyclamp design (CLI)', () => {
   it('--json gives clamp and damper blocks that paste into a scenario, and verification per corner', async () => {
     const out = JSON.parse((await run(process.execPath, ['dist/cli/main.js', 'design', 'scenarios/gate-drive-24v.json', '--json'])).stdout) as {
