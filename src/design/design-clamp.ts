@@ -7,7 +7,7 @@ import { simulationReport, type SimulationReport } from '../analysis/simulation-
 import { runVariant, type VariantRun } from '../simulation/run-variant.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
 import { roundToSeries, stepInSeries, type PreferredSeries } from '../equations/preferred-values.js';
-import { chooseResistorArrangement, capacitorVoltageMargin, type ResistorArrangement } from '../equations/part-ratings.js';
+import { CHIP_RESISTOR_CASES, THROUGH_HOLE_RESISTORS, chooseResistorArrangement, capacitorVoltageMargin, type ResistorArrangement } from '../equations/part-ratings.js';
 import { handDesign, type Corner, type HandDesign } from './hand-design.js';
 
 /** Voltage ratings parts are commonly sold in (V), for suggesting a rating with margin. */
@@ -147,10 +147,14 @@ function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: numbe
  * then the smallest case that carries them.
  */
 function fewestResistors(request: { resistance: number; power: number; voltage: number; ambientCelsius: number }): ResistorArrangement {
+  // Chip parts where a few carry it; through-hole power resistors before many chips.
+  const tables = [CHIP_RESISTOR_CASES, THROUGH_HOLE_RESISTORS];
   let last: ResistorArrangement | undefined;
   for (let count = 1; count <= 8; count++) {
-    last = chooseResistorArrangement({ ...request, maxCount: count });
-    if (last.ok) return last;
+    for (const cases of tables) {
+      last = chooseResistorArrangement({ ...request, maxCount: count, cases });
+      if (last.ok) return last;
+    }
   }
   return last!;
 }

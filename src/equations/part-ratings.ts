@@ -31,6 +31,23 @@ export const CHIP_RESISTOR_CASES: readonly ChipResistorCase[] = [
   { name: '2512', ratedPower: 1, maxWorkingVoltage: 200 },
 ];
 
+/**
+ * Through-hole power resistors, for a clamp resistor a few chip parts cannot carry: axial metal film
+ * (0207, 0.6 W) and metal oxide (1–5 W), typical ratings at 70 °C (common practice; the part's
+ * datasheet governs). Their derating curves usually run to zero above 155 °C; the chip curve is kept,
+ * which is on the safe side.
+ */
+export const THROUGH_HOLE_RESISTORS: readonly ResistorCase[] = [
+  { name: 'axial metal film 0.6 W', ratedPower: 0.6, maxWorkingVoltage: 350 },
+  { name: 'metal oxide 1 W', ratedPower: 1, maxWorkingVoltage: 350 },
+  { name: 'metal oxide 2 W', ratedPower: 2, maxWorkingVoltage: 500 },
+  { name: 'metal oxide 3 W', ratedPower: 3, maxWorkingVoltage: 500 },
+  { name: 'metal oxide 5 W', ratedPower: 5, maxWorkingVoltage: 750 },
+];
+
+/** A resistor type: its name, rated power to 70 °C (W) and element voltage (V). */
+export type ResistorCase = { name: string; ratedPower: number; maxWorkingVoltage: number };
+
 export const FULL_POWER_UP_TO_CELSIUS = 70;
 export const ZERO_POWER_AT_CELSIUS = 155;
 /** Fraction of the (temperature-derated) power rating a design uses: common practice. */
@@ -97,6 +114,8 @@ export type ResistorArrangementRequest = {
   voltageDerating?: number;
   /** Most resistors allowed in series, 1 to 8; default 8. A lower limit trades small cases for fewer parts. */
   maxCount?: number;
+  /** Types to choose from, smallest first; default the chip cases. */
+  cases?: readonly ResistorCase[];
 };
 
 /** Which limit set the count: 'none' when one resistor is within both. */
@@ -105,7 +124,7 @@ export type BindingLimit = 'power' | 'voltage' | 'both' | 'none';
 export type ResistorArrangement =
   | {
     ok: true;
-    caseName: ChipResistorCaseName;
+    caseName: string;
     /** Equal resistors in series. */
     count: number;
     /** resistance / count, unrounded (rounding to a preferred value is the caller's step). */
@@ -147,7 +166,8 @@ export function chooseResistorArrangement(request: ResistorArrangementRequest): 
   }
   const temperatureFactor = powerDeratingFactor(ambientCelsius);
 
-  const needs = (entry: ChipResistorCase) => {
+  const table = request.cases ?? CHIP_RESISTOR_CASES;
+  const needs = (entry: ResistorCase) => {
     const allowedPower = entry.ratedPower * temperatureFactor * powerDerating;
     const allowedVoltage = entry.maxWorkingVoltage * voltageDerating;
     return {
@@ -158,7 +178,7 @@ export function chooseResistorArrangement(request: ResistorArrangementRequest): 
     };
   };
 
-  for (const entry of CHIP_RESISTOR_CASES) {
+  for (const entry of table) {
     const need = needs(entry);
     const count = Math.max(need.countForPower, need.countForVoltage);
     if (count > maxCount) continue;
@@ -177,7 +197,7 @@ export function chooseResistorArrangement(request: ResistorArrangementRequest): 
   }
 
   // The largest case has the highest ratings of all, so what it lacks every case lacks.
-  const largest = CHIP_RESISTOR_CASES[CHIP_RESISTOR_CASES.length - 1];
+  const largest = table[table.length - 1];
   if (largest === undefined) throw new Error('internal: empty chip resistor table');
   const need = needs(largest);
   const powerFails = need.countForPower > maxCount;

@@ -1,6 +1,7 @@
 import { describe, it, expect } from 'vitest';
 import {
   CHIP_RESISTOR_CASES,
+  THROUGH_HOLE_RESISTORS,
   capacitorVoltageMargin,
   chipResistorCase,
   chooseResistorArrangement,
@@ -151,8 +152,8 @@ describe('chooseResistorArrangement', () => {
           const power = voltage ** 2 / resistance;
           const result = chooseResistorArrangement({ resistance, power, voltage, ambientCelsius });
           if (!result.ok) continue;
-          const within = result.powerPerResistor <= resistorPowerRating(result.caseName, ambientCelsius) * 0.5 * (1 + 1e-12)
-            && result.voltagePerResistor <= chipResistorCase(result.caseName).maxWorkingVoltage * 0.8
+          const within = result.powerPerResistor <= resistorPowerRating(result.caseName as ChipResistorCaseName, ambientCelsius) * 0.5 * (1 + 1e-12)
+            && result.voltagePerResistor <= chipResistorCase(result.caseName as ChipResistorCaseName).maxWorkingVoltage * 0.8
             && result.count >= 1 && result.count <= 8
             && Math.abs(result.resistancePerResistor * result.count - resistance) <= resistance * 1e-12;
           // One resistor fewer in the same case must break a limit, or the count is not the fewest.
@@ -204,5 +205,16 @@ describe('capacitorVoltageMargin', () => {
     expect(() => capacitorVoltageMargin(100, 0)).toThrow(/^ratedVoltage must be a positive finite number/);
     expect(() => capacitorVoltageMargin(-1, 100)).toThrow(/^workingVoltage must be a non-negative finite number/);
     expect(() => capacitorVoltageMargin(Number.NaN, 100)).toThrow(RangeError);
+  });
+});
+
+describe('chooseResistorArrangement over through-hole power resistors', () => {
+  it('carries 3.35 W at 60 V in two 5 W metal-oxide parts at half their rating (typical ratings, common practice), where chips need seven 2512s', () => {
+    const chips = chooseResistorArrangement({ resistance: 1e3, power: 3.35, voltage: 60 });
+    expect(chips.ok && `${chips.count} × ${chips.caseName}`).toBe('7 × 2512');
+    const th = chooseResistorArrangement({ resistance: 1e3, power: 3.35, voltage: 60, cases: THROUGH_HOLE_RESISTORS });
+    expect(th.ok && th.count).toBe(2);
+    expect(th.ok && th.caseName).toBe('metal oxide 5 W');
+    expect(th.ok && th.powerPerResistor).toBeLessThanOrEqual(0.5 * 5);
   });
 });
