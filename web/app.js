@@ -673,7 +673,19 @@ const BASE_LAYOUT = {
   font: { family: '"Segoe UI", "Noto Sans", "DejaVu Sans", sans-serif', size: 12, color: '#2a2f33' },
   hovermode: 'closest', hoverlabel: { bgcolor: '#fffdf8', bordercolor: '#b9ae98', font: { color: '#2a2f33' } },
 };
-const PLOT_CONFIG = { responsive: true, displaylogo: false, modeBarButtonsToRemove: ['select2d', 'lasso2d', 'autoScale2d'] };
+/**
+ * Nothing of a design may leave the machine: no send-to-cloud, chart-studio or link controls, only
+ * the local image export, named after the scenario and the plot (plotConfig).
+ */
+const PLOT_CONFIG = {
+  responsive: true, displaylogo: false, showLink: false, showSendToCloud: false, showEditInChartStudio: false,
+  modeBarButtonsToRemove: ['select2d', 'lasso2d', 'autoScale2d', 'sendDataToCloud'],
+};
+/** The plot's config with its image export named "<scenario> – <what>". */
+function plotConfig(what) {
+  const name = (inputFor('name')?.value || 'flyclamp').replace(/[\\/:*?"<>|]+/g, ' ').replace(/\s+/g, ' ').trim();
+  return { ...PLOT_CONFIG, toImageButtonOptions: { filename: `${name} - ${what}`, format: 'png' } };
+}
 
 function variantLabel(v, report) {
   if (v === 'bare') return 'bare · no clamp';
@@ -734,7 +746,7 @@ function drawDrain(result, window_) {
       ...(hasAvalanche ? [tag(avalanche, `avalanche ${fmtNumber(avalanche)} V: the drain is held here`, AVALANCHE_COLOUR, 2)] : []),
     ],
   };
-  Plotly.react(drainPlot, data, layout, PLOT_CONFIG);
+  Plotly.react(drainPlot, data, layout, plotConfig('drain voltage'));
   drainPlot.dataset.view = window_ ? 'turn-off' : 'whole';
   $('#view-label').textContent = window_
     ? `${fmtNumber(x0, 3)}–${fmtNumber(x1, 3)} µs around the first turn-off`
@@ -777,7 +789,7 @@ function drawClamp(result) {
     // Head-room above the traces keeps the two notes off the waveforms.
     yaxis: { ...AXIS, title: { text: 'clamp capacitor above rail (V)' }, range: clampRange(data, withClamp.length) },
   };
-  Plotly.react(clampPlot, data, layout, PLOT_CONFIG);
+  Plotly.react(clampPlot, data, layout, plotConfig('clamp capacitor voltage'));
 }
 
 function clampRange(data, notes) {
@@ -1462,7 +1474,7 @@ function drawDesignPlot(data, zoomed) {
       ...(hasAvalanche ? [levelTag(avalanche, `avalanche ${fmtNumber(avalanche)} V`, AVALANCHE_COLOUR, 2)] : []),
     ],
   };
-  Plotly.react(designPlot, traces, layout, PLOT_CONFIG);
+  Plotly.react(designPlot, traces, layout, plotConfig('design worst case'));
   designPlot.dataset.view = window_ ? 'turn-off' : 'whole';
   /** @type {HTMLButtonElement} */ ($('#design-zoom-turnoff')).disabled = Boolean(window_) || !designTurnOffWindow(data);
   /** @type {HTMLButtonElement} */ ($('#design-zoom-whole')).disabled = !window_;
@@ -1904,7 +1916,7 @@ function drawStudyGrid(data, present, points, path, nominals) {
     shapes, annotations,
   };
   sweepPlot.dataset.kind = 'grid';
-  Plotly.react(sweepPlot, traces, layout, PLOT_CONFIG);
+  Plotly.react(sweepPlot, traces, layout, plotConfig('study'));
 }
 
 function drawStudyHistogram(data, present, points) {
@@ -1934,7 +1946,7 @@ function drawStudyHistogram(data, present, points) {
     ],
   };
   sweepPlot.dataset.kind = 'monte-carlo';
-  Plotly.react(sweepPlot, traces, layout, PLOT_CONFIG);
+  Plotly.react(sweepPlot, traces, layout, plotConfig('study'));
 }
 
 function initPanels() {
