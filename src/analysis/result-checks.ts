@@ -1,8 +1,8 @@
 // A result leaves the program either finite and checked or as a failure with its reason: a number
 // that came out NaN or infinite prints as `null` in JSON, which a reader takes for "no value".
 
-/** Fields whose null is a stated answer ("none"), not a failed computation. */
-const NULL_ALLOWED = new Set(['ringFrequency']);
+/** Fields whose null is a stated answer ("none": no ring left, a design candidate without a damper, no loss budget), not a failed computation. */
+const NULL_ALLOWED = new Set(['ringFrequency', 'damper', 'budget']);
 
 /**
  * The relative mismatch of the per-period energy balance above which a variant's result is not

@@ -265,21 +265,20 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
 }
 
 /**
- * Every combination of the clamp resistor one step below to two steps above the chosen one (the
- * capacitor following by the ripple rule) and the designed damper, its capacitor one or two
- * preferred steps smaller, or none, at the worst case. The clamp-alone run does not depend on the
+ * Every combination of the chosen clamp resistor and the next preferred value up (the capacitor
+ * following by the ripple rule) with the designed damper, its capacitor one preferred step smaller,
+ * or none, at the worst case. The clamp-alone run does not depend on the
  * damper, so each resistor costs one clamp run and one damped run per damper.
  */
 function searchCandidates(s: Scenario, hand: HandDesign, parts: { r: number; c: number; rs: number; cs: number }, capacitanceFor: (r: number) => number, deadlineMs?: number): Candidate[] {
   const t = hand.targets;
   const options = deadlineMs === undefined ? {} : { deadlineMs };
   const limit = hand.deratedLimit - hand.allowance;
-  const resistors = [stepInSeries(parts.r, t.resistorSeries, -1), parts.r, stepInSeries(parts.r, t.resistorSeries, +1), stepInSeries(stepInSeries(parts.r, t.resistorSeries, +1), t.resistorSeries, +1)];
-  const smaller = stepInSeries(parts.cs, t.capacitorSeries, -1);
+  // The adjustments above already moved the resistor down where the worst case needed it.
+  const resistors = [parts.r, stepInSeries(parts.r, t.resistorSeries, +1)];
   const dampers: Array<{ resistance: number; capacitance: number } | null> = [
     { resistance: parts.rs, capacitance: parts.cs },
-    { resistance: parts.rs, capacitance: smaller },
-    { resistance: parts.rs, capacitance: stepInSeries(smaller, t.capacitorSeries, -1) },
+    { resistance: parts.rs, capacitance: stepInSeries(parts.cs, t.capacitorSeries, -1) },
     null,
   ];
   const budgetFor = (outputPower: number): number => (t.lossBudget.kind === 'absolute' ? t.lossBudget.value : t.lossBudget.value * outputPower);

@@ -153,6 +153,12 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   let verdict: OrbitKind | null = null;
   let cycles = 0;
 
+  const checkDeadline = (): void => {
+    if (options.deadlineMs !== undefined && Date.now() > options.deadlineMs) {
+      throw new SimulationFailure(`the run took longer than its time cap (stopped after ${cycles} cycles)`);
+    }
+  };
+
   const runCycle = (recording: boolean): void => {
     recordingNow = recording;
     tripped = false;
@@ -204,6 +210,8 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
           const event = events[result.eventIndex]!;
           if (recording) recorder.point(entry, x);
           stats.events++;
+          // A slow cycle (a fast ring at a tight tolerance) must not outlive the deadline by much.
+          if (eventsThisCycle % 64 === 63) checkDeadline();
           if (++eventsThisCycle > MAX_EVENTS_PER_CYCLE) {
             throw new SimulationFailure(`more than ${MAX_EVENTS_PER_CYCLE} device events in cycle ${cycles + 1}: the mode is chattering`);
           }
@@ -226,11 +234,6 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     if (recording) recorder.endCycle(entry, x, turnOffCurrent);
   };
 
-  const checkDeadline = (): void => {
-    if (options.deadlineMs !== undefined && Date.now() > options.deadlineMs) {
-      throw new SimulationFailure(`the run took longer than its time cap (stopped after ${cycles} cycles)`);
-    }
-  };
 
   const extrapolator = new SettlingExtrapolator(scales, options.extrapolate ?? true);
   while (verdict === null) {
@@ -243,7 +246,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     runCycle(false);
     cycles++;
     options.onCycle?.(cycles, tracker.lastChange);
-    if (cycles % 16 === 0) checkDeadline();
+    checkDeadline();
   }
   while (!recorder.done) {
     runCycle(true);

@@ -151,7 +151,7 @@ describe('the search for the cheapest parts that pass', () => {
     if (!validated.ok) throw new Error('invalid');
     const s = validated.scenario;
     const d = designClamp(s);
-    expect(d.candidates.length).toBe(16);
+    expect(d.candidates.length).toBe(6);
     // The same grid, simulated here one set at a time at the worst case.
     const limit = d.hand.deratedLimit - d.allowance;
     let best: { loss: number; r: number; cs: number | null } | null = null;
