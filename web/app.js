@@ -3,6 +3,7 @@
 // Plain ES module, no build step; Plotly comes from /vendor/plotly.min.js as a global.
 
 import { createCurveEditor } from './curve-editor.js';
+import { el } from './dom.js';
 import { parseSi, UNIT_SPELLINGS } from './si-parse.js';
 
 const Plotly = /** @type {any} */ (window).Plotly;
@@ -1097,18 +1098,6 @@ function fmtField(path, value) {
   return unit ? fmtSi(value, unit, 4) : fmtNumber(value, 4);
 }
 
-function el(tag, props = {}, ...children) {
-  const node = document.createElement(tag);
-  for (const [k, v] of Object.entries(props)) {
-    if (v === undefined || v === null) continue;
-    if (k === 'class') node.className = v;
-    else if (k === 'text') node.textContent = v;
-    else if (k === 'dataset') Object.assign(node.dataset, v);
-    else node.setAttribute(k, v);
-  }
-  node.append(...children.filter((c) => c !== undefined && c !== null));
-  return node;
-}
 
 function cap(text) { return `${text.charAt(0).toUpperCase()}${text.slice(1)}`; }
 

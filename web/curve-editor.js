@@ -2,6 +2,8 @@
 // with a small log-scale plot of C(v) as the simulator reads it (ln C linear between points, the
 // last value beyond, C(0) below 0 V; README, "Scenario files"). Kept out of app.js, which is long.
 
+import { el } from './dom.js';
+
 /** The server's limits for a curve (src/circuit/validate-scenario.ts, MAX_CURVE_POINTS). */
 const MIN_POINTS = 2;
 const MAX_POINTS = 64;
@@ -38,18 +40,7 @@ export function capacitanceAt(points, v) {
 export function createCurveEditor(options) {
   const { path, Plotly, parseSi } = options;
   const base = `f-${path.replace(/\./g, '-')}`;
-  const make = (tag, props = {}, ...children) => {
-    const node = document.createElement(tag);
-    for (const [k, v] of Object.entries(props)) {
-      if (v === undefined || v === null) continue;
-      if (k === 'class') node.className = v;
-      else if (k === 'text') node.textContent = v;
-      else if (k === 'dataset') Object.assign(node.dataset, v);
-      else node.setAttribute(k, v);
-    }
-    node.append(...children);
-    return node;
-  };
+  const make = el;
 
   // ---- the wrapper and the mode toggle ----
   const wrap = make('div', { class: 'field field-curve', dataset: { field: path, curveMode: 'constant' } });
