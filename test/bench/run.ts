@@ -32,6 +32,8 @@ const pad = (s: string | number, n: number): string => String(s).padStart(n);
 function timedTogether(fns: ReadonlyArray<() => VariantRun>): Array<{ run: VariantRun; ms: number }> {
   const times: number[][] = fns.map(() => []);
   const runs: VariantRun[] = [];
+  // One untimed round first: the first run in a process pays for the JIT (about 5× a warm one).
+  for (const fn of fns) fn();
   for (let i = 0; i < REPEATS; i++) {
     fns.forEach((fn, k) => {
       const t0 = performance.now();
