@@ -215,7 +215,7 @@ export function createCapturePanel(page) {
     const reader = new FileReader();
     reader.addEventListener('load', () => {
       state.file = { name: file.name, text: String(reader.result ?? '') };
-      $('capture-name').textContent = file.name;
+      $('capture-name').textContent = `Open: ${file.name}.`;
       void readOnServer();
     });
     reader.addEventListener('error', () => showError([`Capture: the browser could not read ${file.name}`]));
