@@ -130,6 +130,18 @@ describe('POST /api/capture and /api/fit', () => {
     expect(JSON.stringify(body)).not.toMatch(/\bat .*\.(ts|js):\d+/); // no stack trace
   });
 
+  it('a fit whose settled simulations would not fit in its cap is a 422 naming the value that makes them expensive', async () => {
+    // A 10 kHz switch against a ring of about 20 MHz: about 6 s estimated per simulation (README
+    // "Budgets": 30 cycles × fast periods × 0.2 ms), under a single run's 20 s but 40 of them over 120 s.
+    const slow = scenarioToJson(board('300n', '495p', 0.5));
+    (slow.switch as Record<string, unknown>).frequency = '10k';
+    const res = await postTo(s.base, '/api/fit', { scenario: slow, capture: csv, column: 'CH1' });
+    const body = await res.json() as Issues;
+    expect(res.status).toBe(422);
+    expect(body.issues?.[0]?.path).toBe('switch.frequency');
+    expect(body.issues?.[0]?.message).toMatch(/^expected a scenario that runs within 3 s, .*up to 40 of them within 120 s/);
+  });
+
   it(`the capture routes take bodies up to ${CAPTURE_BODY_LIMIT_BYTES / 1024 / 1024} MB and ${MAX_HTTP_CAPTURE_SAMPLES} samples; the other routes keep 256 kB`, async () => {
     const padded = `${'Comment,padding\n'.repeat(20_000)}${csv}`; // about 620 kB: over 256 kB, under the capture limit
     expect(Buffer.byteLength(padded)).toBeGreaterThan(256 * 1024);
