@@ -161,9 +161,9 @@ export function createServer(given: ServerOptions): FlyclampServer {
     // The scenario's parts are named as in a scenario file, the rest of the body as body.…
     const body = req.body as unknown;
     const isObject = typeof body === 'object' && body !== null && !Array.isArray(body);
+    const { scenario, ...rest } = isObject ? body as Record<string, unknown> : { scenario: undefined };
     // A capture's CSV text is bounded by its route's body limit and its reader, not by the text limit.
-    const { scenario, capture: _capture, ...rest } = isObject ? body as Record<string, unknown> : { scenario: undefined, capture: undefined };
-    if (isObject && !CAPTURE_ROUTES.includes(req.path) && 'capture' in (body as object)) rest.capture = _capture;
+    if (CAPTURE_ROUTES.includes(req.path)) delete (rest as Record<string, unknown>).capture;
     const issues = [...checkInputLimits(isObject ? rest : body, 'body'), ...(scenario === undefined ? [] : checkInputLimits(scenario, ''))];
     const raw = (req as RawBodied).rawBody;
     if (issues.length === 0 && raw) {
@@ -247,10 +247,10 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const task = readCaptureBody(body, fit);
     const capMs = 6 * runTimeCapMs; // up to MAX_FIT_SIMULATIONS settled runs, one after another
     if (scenario) {
-      // Each simulation within a run's budget, and all of them within the fit's cap.
-      // The fit simulates the bare variant, or the clamp one when the board has its clamp: the costlier counts.
+      // The fit simulates the bare variant, or the clamp one when the board has its clamp. Each
+      // simulation must fit in a run's budget and in its share of the fit's cap; over it, the value
+      // that makes it expensive is named.
       const variants = availableVariants(scenario).filter((v) => v !== 'damped');
-      // Each simulation within a run's budget and within its share of the fit's cap, the value that makes it expensive named.
       const perSimulation = Math.min(runTimeCapMs, capMs / MAX_FIT_SIMULATIONS) / 1000;
       const fitHint = (): string => `the fit runs up to ${MAX_FIT_SIMULATIONS} of them within ${capMs / 1000} s; use flyclamp fit on the command line, which has no cap`;
       refuseOverBudget(variants.flatMap((v) => checkWorkBudget(scenario, [v], perSimulation, fitHint)));
