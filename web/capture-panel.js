@@ -8,6 +8,7 @@
 
 const US = 1e6;
 const CAPTURE_COLOUR = '#1b1b1b';
+const FITTED_COLOUR = '#c2571a';
 
 const FITTED_ROWS = [
   { path: 'transformer.leakageInductance', label: 'Leakage inductance', unit: 'H' },
@@ -142,6 +143,7 @@ export function createCapturePanel(page) {
         state.fit = { data, scenario };
         showError([]);
         showFit(data, scenario);
+        page.redrawDrain();
         status.textContent = `Fitted in ${seconds} s (${data.variant} variant; the form’s scenario as the start).`;
       } else {
         showError(problemLines(response, data));
@@ -245,7 +247,7 @@ export function createCapturePanel(page) {
           break;
         }
       }
-      return [{
+      const traces = [{
         type: 'scatter', mode: 'lines', name: `scope capture (${state.view.columnName})`, meta: 'capture',
         x: state.view.capture.timeSeconds.map((t) => (t + at) * US),
         y: state.view.capture.values,
@@ -253,6 +255,19 @@ export function createCapturePanel(page) {
         opacity: 0.85,
         hovertemplate: `%{y:.1f} V at %{x:.3f} µs<extra>capture</extra>`,
       }];
+      // The fitted model on the capture's time axis (with the capture's offset), dotted over it.
+      const fitted = state.fit?.data.simulatedDrain;
+      if (fitted) {
+        traces.push({
+          type: 'scatter', mode: 'lines', name: `fitted model (${state.fit.data.variant})`, meta: 'capture:fitted',
+          x: fitted.timeSeconds.map((t) => (t + at) * US),
+          y: fitted.values,
+          line: { color: FITTED_COLOUR, width: 1.4, dash: 'dot' },
+          opacity: 1,
+          hovertemplate: `%{y:.1f} V at %{x:.3f} µs<extra>fitted</extra>`,
+        });
+      }
+      return traces;
     },
   };
 }

@@ -106,6 +106,15 @@ describe('scope capture panel', () => {
     // The default scenario's Coss is a curve: its factor is shown, with the ring and the residual.
     expect(await page.$('#capture-fit-table tr[data-path="switch.drainCapacitanceScale"]')).not.toBeNull();
     expect(await page.textContent('#capture-fit-notes')).toMatch(/Ring .*Hz.*Residual/);
+    // The fitted model is drawn over the capture (fifth trace), in the SVG.
+    const fittedDrawn = await page.evaluate(() => {
+      const plot = document.getElementById('drain-plot') as unknown as { data: Array<{ meta: string }> };
+      const index = plot.data.findIndex((d) => d.meta === 'capture:fitted');
+      const path = document.querySelectorAll('#drain-plot .scatterlayer .trace')[index]?.querySelector('path.js-line');
+      return { index, segments: (path?.getAttribute('d') ?? '').split(/[LM]/).length - 1 };
+    });
+    expect(fittedDrawn.index).toBe(4);
+    expect(fittedDrawn.segments).toBeGreaterThan(50);
 
     await page.click('#capture-use');
     const typed = await page.inputValue(`[data-path="${LEAKAGE}"]`);
