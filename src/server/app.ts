@@ -59,7 +59,7 @@ const MAX_SWEEP_POINTS = 200;
 export const MAX_STUDY_RECORDED_SAMPLES = 12_000_000;
 /** Heap ceiling of a simulation worker thread, MB: the worst allowed request needs about 100 MB of waveforms. */
 export const WORKER_HEAP_CEILING_MB = 512;
-/** Body limit of the capture routes, bytes: an 8 MB CSV is about 500,000 rows of time and one channel. */
+/** Body limit of the capture routes, bytes: about 300,000 rows of time and two channels at 28 bytes a row. */
 export const CAPTURE_BODY_LIMIT_BYTES = 8 * 1024 * 1024;
 /** Samples of a capture sent to the server (the CLI reads up to 25 million from a file). */
 export const MAX_HTTP_CAPTURE_SAMPLES = 1_000_000;
