@@ -5,6 +5,7 @@
 import { createCurveEditor } from './curve-editor.js';
 import { el } from './dom.js';
 import { parseSi, UNIT_SPELLINGS } from './si-parse.js';
+import { createCapturePanel } from './capture-panel.js';
 
 const Plotly = /** @type {any} */ (window).Plotly;
 
@@ -705,6 +706,9 @@ function drawAll(result) {
 
 function fmtNumber(value, digits = 4) { return Number(value.toPrecision(digits)).toString(); }
 
+/** What the drain plot shows, so the capture panel can draw it again with its trace. */
+let drawnDrain = /** @type {null | { result: any, window_: any }} */ (null);
+
 function drawDrain(result, window_) {
   const { report } = result;
   const x0 = window_ ? window_.startSeconds * US : 0;
@@ -716,6 +720,9 @@ function drawDrain(result, window_) {
     line: { color: COLOURS[v], width: v === 'bare' ? 1.3 : 1.7 },
     hovertemplate: `%{y:.1f} V at %{x:.3f} µs<extra>${v}</extra>`,
   }));
+  // An opened scope capture follows the variants (capture-panel.js places it at their turn-off).
+  data.push(...(capturePanel?.drainTraces(result) ?? []));
+  drawnDrain = { result, window_ };
   const level = (y, name, meta, colour, dash, width) => ({
     type: 'scatter', mode: 'lines', name, meta, x: [x0, x1], y: [y, y], showlegend: false, hoverinfo: 'skip',
     line: { color: colour, dash, width },
@@ -1992,9 +1999,40 @@ const resizer = new ResizeObserver((entries) => {
   }
 });
 
+let capturePanel = /** @type {null | ReturnType<typeof createCapturePanel>} */ (null);
+
+/** A value written into the form by a panel: the field's error cleared, the field highlighted. */
+function setFormField(path, text) {
+  const input = inputFor(path);
+  input.value = text;
+  highlightLoaded(path, input);
+}
+
+function highlightLoaded(path, input) {
+  clearFieldError(path);
+  const field = /** @type {HTMLElement | null} */ (input?.closest('.field'));
+  if (field) {
+    field.classList.remove('loaded');
+    void field.offsetWidth; // restart the highlight
+    field.classList.add('loaded');
+  }
+  markEdited();
+  updateStudyPreview();
+}
+
 async function start() {
   buildForm();
   initPanels();
+  capturePanel = createCapturePanel({
+    readForm, formNumber, fmtSi, siForForm, parseSi, postJson,
+    setField: setFormField,
+    setDrainCapacitance: (raw) => {
+      curveEditor.fill(raw);
+      highlightLoaded('switch.drainCapacitance', inputFor('switch.drainCapacitance'));
+      refreshStudyFields();
+    },
+    redrawDrain: () => { if (drawnDrain) drawDrain(drawnDrain.result, drawnDrain.window_); },
+  });
   resizer.observe(drainPlot);
   resizer.observe(clampPlot);
   resizer.observe(designPlot);

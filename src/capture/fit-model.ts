@@ -37,6 +37,12 @@ export interface ModelFit {
   iterations: number;
   /** The scenario with the fitted values. */
   scenario: Scenario;
+  /**
+   * The fitted simulation's drain on its uniform grid and how it lines up with the capture: the
+   * capture at `u` seconds after the first fitted edge's midpoint crossing is compared with
+   * `values` at `alignSeconds + u`, plus `offsetVolts` (for display beside the capture).
+   */
+  fittedDrain: { stepSeconds: number; values: Float64Array; alignSeconds: number };
 }
 
 export interface FitOptions {
@@ -48,6 +54,8 @@ export interface FitOptions {
   runner?: TraceRunner;
   /** Progress lines (each accepted step), for a person watching. */
   log?: (line: string) => void;
+  /** Wall-clock instant (Date.now()) past which each simulation stops (the server's time cap). */
+  deadlineMs?: number;
 }
 
 /** Runs a batch of settled simulations, in order of the tasks. */
@@ -107,7 +115,7 @@ export async function fitModel(scenario: Scenario, capture: { timeSeconds: Float
   const simulateMany = async (scenarios: Scenario[], variant: VariantName): Promise<Array<SimulatedTrace | string>> => {
     if (simulations + scenarios.length > maxSimulations) throw new ModelFitFailed(`the fit needed more than ${maxSimulations} settled simulations`);
     simulations += scenarios.length;
-    const results = await runner(scenarios.map((scenario) => ({ scenario, variant })));
+    const results = await runner(scenarios.map((scenario) => ({ scenario, variant, ...(options.deadlineMs !== undefined ? { deadlineMs: options.deadlineMs } : {}) })));
     return results.map((r) => (r.ok ? new SimulatedTrace(r.trace) : r.failure));
   };
 
@@ -224,6 +232,7 @@ export async function fitModel(scenario: Scenario, capture: { timeSeconds: Float
     simulations,
     iterations,
     scenario: withSimulationOf(scenarioAt(theta), scenario),
+    fittedDrain: { stepSeconds: current.trace.stepSeconds, values: current.trace.values, alignSeconds: current.anchor + current.shifts[0]! },
   };
 }
 

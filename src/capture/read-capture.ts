@@ -132,6 +132,60 @@ export async function readCapture(file: string, options: ReadCaptureOptions = {}
   if (size > maxBytes) throw new CaptureError(`the file is ${size} bytes; captures are read up to ${maxBytes} bytes (decimate on the scope, or export a shorter record)`);
   if (size === 0) throw new CaptureError('the file is empty; expected a CSV capture');
 
+  const lines = captureLines(size, maxSamples, options.column);
+  let bytesSeen = 0;
+  const decoder = new StringDecoder('utf8');
+  let carry = '';
+  try {
+    for await (const chunk of createReadStream(file, { highWaterMark: 1 << 20 })) {
+      bytesSeen += (chunk as Buffer).length;
+      const text = carry + decoder.write(chunk as Buffer);
+      let start = 0;
+      for (let nl = text.indexOf('\n'); nl >= 0; nl = text.indexOf('\n', start)) {
+        if (nl - start > MAX_LINE_CHARS) throw new CaptureError(`line ${lines.lineNumber + 1} is longer than ${MAX_LINE_CHARS} characters; expected a CSV capture`);
+        lines.line(text.slice(start, nl));
+        start = nl + 1;
+      }
+      carry = text.slice(start);
+      if (carry.length > MAX_LINE_CHARS) throw new CaptureError(`line ${lines.lineNumber + 1} is longer than ${MAX_LINE_CHARS} characters; expected a CSV capture`);
+    }
+  } catch (error) {
+    if (error instanceof CaptureError) throw error;
+    throw new CaptureError(`cannot read the file (${(error as NodeJS.ErrnoException).code ?? (error as Error).message}) after ${bytesSeen} bytes`);
+  }
+  carry += decoder.end();
+  if (carry !== '') lines.line(carry);
+
+  return lines.finish();
+}
+
+/**
+ * A capture already in memory (the page sends the file's text): the same reading, validation and
+ * messages as `readCapture`, with its budgets checked on the text's size before any line is read.
+ */
+export function readCaptureText(text: string, options: ReadCaptureOptions = {}): Capture {
+  const maxBytes = options.maxBytes ?? MAX_CAPTURE_BYTES;
+  const maxSamples = options.maxSamples ?? MAX_CAPTURE_SAMPLES;
+  const size = Buffer.byteLength(text, 'utf8');
+  if (size > maxBytes) throw new CaptureError(`the capture is ${size} bytes; captures are read up to ${maxBytes} bytes here (decimate on the scope, or export a shorter record)`);
+  if (text.trim() === '') throw new CaptureError('the capture is empty; expected a CSV capture');
+  const lines = captureLines(size, maxSamples, options.column);
+  let start = 0;
+  for (let nl = text.indexOf('\n'); nl >= 0; nl = text.indexOf('\n', start)) {
+    if (nl - start > MAX_LINE_CHARS) throw new CaptureError(`line ${lines.lineNumber + 1} is longer than ${MAX_LINE_CHARS} characters; expected a CSV capture`);
+    lines.line(text.slice(start, nl));
+    start = nl + 1;
+  }
+  if (text.length - start > MAX_LINE_CHARS) throw new CaptureError(`line ${lines.lineNumber + 1} is longer than ${MAX_LINE_CHARS} characters; expected a CSV capture`);
+  if (start < text.length) lines.line(text.slice(start));
+  return lines.finish();
+}
+
+/**
+ * The line-by-line reader shared by the file and the text entry points: `size` (bytes) sizes the
+ * arrays up front, so a long capture is not copied as it grows.
+ */
+function captureLines(size: number, maxSamples: number, column: string | undefined): { line: (raw: string) => void; finish: () => Capture; readonly lineNumber: number } {
   const info: HeaderInfo = {};
   let lastHeaderFields: string[] | null = null;
   let layout: Layout | null = null;
@@ -140,7 +194,6 @@ export async function readCapture(file: string, options: ReadCaptureOptions = {}
   let time = new Float64Array(0), volts = new Float64Array(0);
   let count = 0;
   let lineNumber = 0;
-  let bytesSeen = 0;
 
   const grow = (needed: number): void => {
     if (needed <= time.length) return;
@@ -173,7 +226,7 @@ export async function readCapture(file: string, options: ReadCaptureOptions = {}
       delimiter = d;
       decimalComma = comma && fields.some((f) => f.includes(','));
       const names = lastHeaderFields !== null && (lastHeaderFields as string[]).length === fields.length ? lastHeaderFields : null;
-      layout = decideLayout(fields.length, names, info, options.column, lineNumber);
+      layout = decideLayout(fields.length, names, info, column, lineNumber);
       // Size the arrays from the file size and this row's length, so a long capture is not copied as it grows.
       grow(Math.min(maxSamples, Math.ceil((size / (line.length + 1)) * 1.1) + 1024));
     }
@@ -201,37 +254,18 @@ export async function readCapture(file: string, options: ReadCaptureOptions = {}
     count++;
   };
 
-  const decoder = new StringDecoder('utf8');
-  let carry = '';
-  try {
-    for await (const chunk of createReadStream(file, { highWaterMark: 1 << 20 })) {
-      bytesSeen += (chunk as Buffer).length;
-      const text = carry + decoder.write(chunk as Buffer);
-      let start = 0;
-      for (let nl = text.indexOf('\n'); nl >= 0; nl = text.indexOf('\n', start)) {
-        if (nl - start > MAX_LINE_CHARS) throw new CaptureError(`line ${lineNumber + 1} is longer than ${MAX_LINE_CHARS} characters; expected a CSV capture`);
-        handleLine(text.slice(start, nl));
-        start = nl + 1;
-      }
-      carry = text.slice(start);
-      if (carry.length > MAX_LINE_CHARS) throw new CaptureError(`line ${lineNumber + 1} is longer than ${MAX_LINE_CHARS} characters; expected a CSV capture`);
-    }
-  } catch (error) {
-    if (error instanceof CaptureError) throw error;
-    throw new CaptureError(`cannot read the file (${(error as NodeJS.ErrnoException).code ?? (error as Error).message}) after ${bytesSeen} bytes`);
-  }
-  carry += decoder.end();
-  if (carry !== '') handleLine(carry);
-
-  if (layout === null) throw new CaptureError(`no numeric data in ${lineNumber} line(s); expected rows of numbers (time, voltage…) after the header`);
-  const finalLayout: Layout = layout;
-  if (count < 2) throw new CaptureError(`a single sample (line ${lineNumber}); a capture needs many samples over at least one turn-off and its ring`);
-  return {
-    timeSeconds: time.subarray(0, count),
-    volts: volts.subarray(0, count),
-    columnName: finalLayout.columnName,
-    voltageColumns: finalLayout.voltageColumns,
-    timeSource: finalLayout.timeColumn === null ? 'sample interval' : 'column',
-    delimiter, decimalComma,
+  const finish = (): Capture => {
+    if (layout === null) throw new CaptureError(`no numeric data in ${lineNumber} line(s); expected rows of numbers (time, voltage…) after the header`);
+    const finalLayout: Layout = layout;
+    if (count < 2) throw new CaptureError(`a single sample (line ${lineNumber}); a capture needs many samples over at least one turn-off and its ring`);
+    return {
+      timeSeconds: time.subarray(0, count),
+      volts: volts.subarray(0, count),
+      columnName: finalLayout.columnName,
+      voltageColumns: finalLayout.voltageColumns,
+      timeSource: finalLayout.timeColumn === null ? 'sample interval' : 'column',
+      delimiter, decimalComma,
+    };
   };
+  return { line: handleLine, finish, get lineNumber() { return lineNumber; } };
 }

@@ -4,7 +4,8 @@
 import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { runVariant, SimulationFailure } from '../simulation/run-variant.js';
 
-export interface TraceTask { scenario: Scenario; variant: VariantName }
+/** `deadlineMs`: wall-clock instant (Date.now()) past which the run stops with a failure (the server's cap). */
+export interface TraceTask { scenario: Scenario; variant: VariantName; deadlineMs?: number }
 
 export interface TraceData {
   /** Drain voltage on the recorder's uniform grid, V. */
@@ -20,7 +21,7 @@ export type TraceResult = { ok: true; trace: TraceData } | { ok: false; failure:
 
 export function runTraceTask(task: TraceTask): TraceResult {
   try {
-    const run = runVariant(task.scenario, task.variant);
+    const run = runVariant(task.scenario, task.variant, task.deadlineMs !== undefined ? { deadlineMs: task.deadlineMs } : {});
     const w = run.recorder.waveform;
     const first = run.recorder.cycles[0]!;
     return {

@@ -10,6 +10,7 @@ import { CaptureError, readCapture, type Capture } from '../capture/read-capture
 import { analyseRing, RingNotFound, type RingAnalysis } from '../capture/ring-analysis.js';
 import { fitModel, ModelFitFailed, runLocally, runOnPool, type ModelFit } from '../capture/fit-model.js';
 import { createTracePool } from '../capture/trace-pool.js';
+import { fitJson, type FitJson } from '../capture/fit-json.js';
 import { availableParallelism } from 'node:os';
 import { extractFromAddedCapacitor } from '../equations/ring-extraction.js';
 import { BadInput, outputFor, SimulationFailed } from './cli-errors.js';
@@ -26,17 +27,6 @@ export interface FitCommandOptions {
 
 /** Most worker processes for a fit: a Jacobian is three simulations side by side. */
 const MAX_FIT_WORKERS = 3;
-
-/** The `fit --json` shape (issue 13: other tools read these names). */
-export interface FitJson {
-  fitted: Record<string, number>;
-  uncertainty: Record<string, number>;
-  ringFrequency: number;
-  ringDecay: number;
-  residual: number;
-  captureSamples: number;
-  addedCapacitor?: { leakageInductance: number; drainCapacitance: number };
-}
 
 export async function runFitCommand(captureFile: string, scenarioFile: string, options: FitCommandOptions): Promise<void> {
   // Flags first: nothing is read or simulated on a bad command line.
@@ -119,29 +109,6 @@ function ringOf(file: string, capture: Capture): RingAnalysis {
     if (error instanceof RingNotFound) throw new BadInput(`${file}: ${error.message}`);
     throw error;
   }
-}
-
-const capacitanceKey = (fit: ModelFit): string => (fit.drainCapacitance.kind === 'constant' ? 'switch.drainCapacitance' : 'switch.drainCapacitanceScale');
-
-export function fitJson(fit: ModelFit, ring: RingAnalysis, captureSamples: number, added?: FitJson['addedCapacitor']): FitJson {
-  const key = capacitanceKey(fit);
-  return {
-    fitted: {
-      'transformer.leakageInductance': fit.leakageInductance.value,
-      [key]: fit.drainCapacitance.value,
-      'transformer.primaryResistance': fit.primaryResistance.value,
-    },
-    uncertainty: {
-      'transformer.leakageInductance': fit.leakageInductance.sigma,
-      [key]: fit.drainCapacitance.sigma,
-      'transformer.primaryResistance': fit.primaryResistance.sigma,
-    },
-    ringFrequency: ring.frequencyHz,
-    ringDecay: ring.decayPerSecond,
-    residual: fit.residualRmsVolts,
-    captureSamples,
-    ...(added ? { addedCapacitor: added } : {}),
-  };
 }
 
 function fitTable(file: string, capture: Capture, ring: RingAnalysis, fit: ModelFit, ringWithCapacitor: RingAnalysis | undefined, added: FitJson['addedCapacitor']): string {

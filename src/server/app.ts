@@ -11,6 +11,8 @@ import { validateScenario, type ValidationIssue, type ValidationResult } from '.
 import { availableVariants, VARIANT_NAMES, type Scenario, type VariantName } from '../circuit/scenario.js';
 import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
 import type { DesignTaskResult } from './design-task.js';
+import type { CaptureTaskResult } from './fit-task.js';
+import { MAX_FIT_SIMULATIONS } from '../capture/fit-model.js';
 import type { ServerTask, ServerTaskResult } from './server-worker.js';
 import { createStudyPool, runStudy, scenarioAtPoint, type StudyPool } from '../study/run-study.js';
 import { choosePoints } from '../study/choose-points.js';
@@ -37,6 +39,8 @@ export interface ServerOptions {
   /** A request that waits longer than this for a run slot is answered 503, ms. */
   maxQueueWaitMs?: number;
   bodyLimitBytes?: number;
+  /** Body limit of the capture routes (/api/capture, /api/fit), which carry a scope's CSV text. */
+  captureBodyLimitBytes?: number;
   /** Heap ceiling of each simulation worker thread, MB (default WORKER_HEAP_CEILING_MB). */
   workerHeapMb?: number;
   /** Host names (besides IP addresses and localhost) the page may be reached by: the --host given by name. */
@@ -55,6 +59,14 @@ const MAX_SWEEP_POINTS = 200;
 export const MAX_STUDY_RECORDED_SAMPLES = 12_000_000;
 /** Heap ceiling of a simulation worker thread, MB: the worst allowed request needs about 100 MB of waveforms. */
 export const WORKER_HEAP_CEILING_MB = 512;
+/** Body limit of the capture routes, bytes: about 300,000 rows of time and two channels at 28 bytes a row. */
+export const CAPTURE_BODY_LIMIT_BYTES = 8 * 1024 * 1024;
+/** Samples of a capture sent to the server (the CLI reads up to 25 million from a file). */
+export const MAX_HTTP_CAPTURE_SAMPLES = 1_000_000;
+/** Header lines allowed before the data, besides one line per sample. */
+const MAX_CAPTURE_HEADER_LINES = 10_000;
+const CAPTURE_COLUMNS = 3000;
+const CAPTURE_ROUTES = ['/api/capture', '/api/fit'];
 /** Grace past a run's cap before the request gives up on its worker (thread start-up, reduction, transfer), ms. */
 const CAP_GRACE_MS = 10_000;
 
@@ -140,6 +152,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
     res.json({ ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots } });
   });
   // The text is kept for the repeated-key scan (JSON.parse keeps the last of two equal keys silently).
+  // The capture routes carry a CSV and get their own, larger limit; the parser below then skips them.
+  app.use(CAPTURE_ROUTES, express.json({ limit: options.captureBodyLimitBytes ?? CAPTURE_BODY_LIMIT_BYTES, verify: (req, _res, buf) => { (req as RawBodied).rawBody = buf; } }));
   app.use(express.json({ limit: options.bodyLimitBytes ?? 256 * 1024, verify: (req, _res, buf) => { (req as RawBodied).rawBody = buf; } }));
   // Before any handler reads the body: nesting and size limits, so no later step recurses or copies unbounded.
   app.use((req, _res, next) => {
@@ -148,6 +162,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const body = req.body as unknown;
     const isObject = typeof body === 'object' && body !== null && !Array.isArray(body);
     const { scenario, ...rest } = isObject ? body as Record<string, unknown> : { scenario: undefined };
+    // A capture's CSV text is bounded by its route's body limit and its reader, not by the text limit.
+    if (CAPTURE_ROUTES.includes(req.path)) delete (rest as Record<string, unknown>).capture;
     const issues = [...checkInputLimits(isObject ? rest : body, 'body'), ...(scenario === undefined ? [] : checkInputLimits(scenario, ''))];
     const raw = (req as RawBodied).rawBody;
     if (issues.length === 0 && raw) {
@@ -223,6 +239,38 @@ export function createServer(given: ServerOptions): FlyclampServer {
       ...(study.interrupted ? { interrupted: `the sweep reached its time cap of ${capMs / 1000} s: ${points.length} of ${chosen.points.length} points finished` } : {}),
     });
   });
+
+  // A scope capture: read and measured (/api/capture), or the model fitted to it (/api/fit).
+  const captureRoute = (fit: boolean) => async (req: Request, res: Response): Promise<void> => {
+    const body = req.body as Record<string, unknown>;
+    const { scenario, warnings } = fit ? readScenarioBody(body, ['scenario', 'capture', 'column']) : { scenario: undefined, warnings: [] };
+    const task = readCaptureBody(body, fit);
+    const capMs = 6 * runTimeCapMs; // up to MAX_FIT_SIMULATIONS settled runs, one after another
+    if (scenario) {
+      // The fit simulates the bare variant, or the clamp one when the board has its clamp. Each
+      // simulation must fit in a run's budget and in its share of the fit's cap; over it, the value
+      // that makes it expensive is named.
+      const variants = availableVariants(scenario).filter((v) => v !== 'damped');
+      const perSimulation = Math.min(runTimeCapMs, capMs / MAX_FIT_SIMULATIONS) / 1000;
+      const fitHint = (): string => `the fit runs up to ${MAX_FIT_SIMULATIONS} of them within ${capMs / 1000} s; use flyclamp fit on the command line, which has no cap`;
+      refuseOverBudget(variants.flatMap((v) => checkWorkBudget(scenario, [v], perSimulation, fitHint)));
+    }
+    const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'capture', ...task, ...(scenario ? { scenario } : {}), capMs }, { signal })) as CaptureTaskResult;
+    if (!result.ok) {
+      if (result.kind === 'field') throw new HttpError(400, 'invalid request', [{ path: result.field, message: result.failure }]);
+      if (result.kind === 'ring') throw new HttpError(422, `no ring can be measured in the capture: ${result.failure}`);
+      throw failed(result.failure, 'fit');
+    }
+    const { fit: fitted, ok: _ok, ...view } = result;
+    if (!fit) { res.json({ ok: true, ...view }); return; }
+    if (!fitted) throw failed('the fit gave no result', 'fit');
+    const { simulatedDrain, variant, offset, ...json } = fitted;
+    const notFinite = nonFinitePaths(json);
+    if (notFinite.length > 0) throw failed(`the fit has no finite value for ${notFinite.join(', ')}`, 'fit');
+    res.json({ ...json, variant, offset, capture: view.capture, simulatedDrain, columnName: view.columnName, midpointVolts: view.midpointVolts, warnings });
+  };
+  app.post('/api/capture', captureRoute(false));
+  app.post('/api/fit', captureRoute(true));
 
   app.use('/api', (_req, _res, next) => next(new HttpError(404, 'no such API route')));
   const plotly = createRequire(import.meta.url).resolve('plotly.js-dist-min');
@@ -335,6 +383,34 @@ function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & {
     capMs: runTimeCapMs,
     ...(win ? { window: win } : {}),
   };
+}
+
+/** `capture` (CSV text) and `column` of a capture request, bounded before any line is read. */
+function readCaptureBody(body: unknown, fit: boolean): { captureText: string; column?: string; maxSamples: number; columns: number } {
+  if (typeof body !== 'object' || body === null || Array.isArray(body)) {
+    throw new HttpError(400, 'invalid request', [{ path: 'body', message: `expected a JSON object with a "capture" field, found ${Array.isArray(body) ? 'a list' : typeof body}` }]);
+  }
+  const { capture, column, ...others } = body as Record<string, unknown>;
+  const issues: ValidationIssue[] = fit ? [] : Object.keys(others)
+    .map((k) => ({ path: `body.${k}`, message: 'unknown field (expected capture, column)' }));
+  if (typeof capture !== 'string') {
+    issues.push({ path: 'body.capture', message: `expected the capture's CSV text (a header block, then rows of time and voltage), found ${capture === undefined ? 'nothing' : describeBrief(capture)}` });
+  } else {
+    // One sample per line: counted before the text goes to a worker.
+    let lines = 1;
+    for (let at = capture.indexOf('\n'); at >= 0; at = capture.indexOf('\n', at + 1)) lines++;
+    if (lines > MAX_HTTP_CAPTURE_SAMPLES + MAX_CAPTURE_HEADER_LINES) {
+      throw new HttpError(413, 'the request is larger than the server runs', [{ path: 'body.capture', message: `expected at most ${MAX_HTTP_CAPTURE_SAMPLES} samples (lines), found ${lines} lines: decimate on the scope, or use flyclamp fit on the command line` }]);
+    }
+  }
+  let columnText: string | undefined;
+  if (column !== undefined && column !== null && column !== '') {
+    if (typeof column === 'string' && column.length <= 64) columnText = column;
+    else if (Number.isInteger(column) && (column as number) >= 1 && (column as number) <= 64) columnText = String(column);
+    else issues.push({ path: 'body.column', message: `expected the drain column's name or its position (1–64, the time column is 1), found ${describeBrief(column)}` });
+  }
+  if (issues.length > 0) throw new HttpError(400, 'invalid request', issues);
+  return { captureText: capture as string, ...(columnText !== undefined ? { column: columnText } : {}), maxSamples: MAX_HTTP_CAPTURE_SAMPLES, columns: CAPTURE_COLUMNS };
 }
 
 /** A value as found, short: the limits middleware has bounded its nesting, this bounds its length. */

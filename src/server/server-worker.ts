@@ -2,16 +2,19 @@
 // (sweep points go to the study's process pool).
 import { runSimulateTask, type SimulateTask, type SimulateTaskResult } from './simulate-task.js';
 import { runDesignTask, type DesignTask, type DesignTaskResult } from './design-task.js';
+import { runCaptureTask, type CaptureTask, type CaptureTaskResult } from './fit-task.js';
 
 export type ServerTask =
   | ({ kind: 'simulate' } & SimulateTask)
-  | ({ kind: 'design' } & DesignTask);
+  | ({ kind: 'design' } & DesignTask)
+  | ({ kind: 'capture' } & CaptureTask);
 
-export type ServerTaskResult = SimulateTaskResult | DesignTaskResult;
+export type ServerTaskResult = SimulateTaskResult | DesignTaskResult | CaptureTaskResult;
 
-export default function serverWorker(task: ServerTask): ServerTaskResult {
+export default function serverWorker(task: ServerTask): ServerTaskResult | Promise<ServerTaskResult> {
   switch (task.kind) {
     case 'simulate': return runSimulateTask(task);
     case 'design': return runDesignTask(task);
+    case 'capture': return runCaptureTask(task);
   }
 }
