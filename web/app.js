@@ -1173,8 +1173,9 @@ function numCell(value, text, extra = {}) {
 }
 
 function peakCell(peak, rating, derated, extra = {}) {
+  // A corner without the bare run (the design runs it at the worst case only) shows a dash.
+  if (typeof peak !== 'number' || !Number.isFinite(peak)) return numCell(undefined, '—', extra);
   const td = numCell(peak, fmtVolts(peak), extra);
-  if (!Number.isFinite(peak)) return td;
   if (peak > rating) { td.classList.add('over-rating'); td.append(' ', flagBadge('rating', 'over rating')); }
   else if (peak > derated) { td.classList.add('over-derated'); td.append(' ', flagBadge('derated', 'over derated')); }
   return td;
