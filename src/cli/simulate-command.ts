@@ -18,15 +18,16 @@ export interface SimulateOptions { json?: boolean; csv?: string; variant?: Varia
  * change against the settle tolerance, at most four times a second, so a long run shows it is moving.
  */
 function progressReporter(enabled: boolean): { onCycle: (variant: VariantName) => (cycles: number, change: number) => void; done: () => void } {
-  let last = 0, shown = false;
+  let shown = false;
   return {
-    onCycle: (variant) => (cycles, change) => {
+    // Each variant's first cycle is always shown, then at most four lines a second.
+    onCycle: (variant) => { let last = 0; return (cycles, change) => {
       const now = Date.now();
       if (!enabled || now - last < 250) return;
       last = now;
       shown = true;
       process.stderr.write(`${process.stderr.isTTY ? '\r' : ''}${variant}: cycle ${cycles}${Number.isFinite(change) ? `, change ${change.toExponential(1)} of the scale` : ''}${process.stderr.isTTY ? '   ' : '\n'}`);
-    },
+    }; },
     done: () => { if (shown && process.stderr.isTTY) process.stderr.write('\n'); },
   };
 }
