@@ -4,6 +4,7 @@
 // hours or filling memory.
 
 import { availableVariants, type Scenario, type VariantName } from '../circuit/scenario.js';
+import { recordedSamplesPerCycle } from '../simulation/run-variant.js';
 import { circuitForVariant, fastestRingPeriodSeconds, leakageRingPeriodSeconds } from '../model/circuit-params.js';
 
 /**
@@ -79,9 +80,9 @@ export function estimateWork(scenario: Scenario, variants: readonly VariantName[
   // Named after the costliest variant; the time is the sum over all of them.
   const fastest = variants.map(fastestOf).reduce((a, b) => (b.periodSeconds < a.periodSeconds ? b : a), fastestOf('bare'));
   const seconds = variants.reduce((sum, v) => sum + (cycles * periodSeconds * SECONDS_PER_RING_PERIOD) / fastestOf(v).periodSeconds, 0);
-  // The recorder raises the samples per cycle to keep 24 per leakage ring, up to 50,000 (as run-variant.ts does).
+  // The recorder's own rule for the samples it keeps.
   const ringPeriodSeconds = timeScales(scenario, 'bare')[0]!.periodSeconds;
-  const samplesPerCycle = Math.min(50_000, Math.max(scenario.simulation.samplesPerCycle, Math.ceil((24 * periodSeconds) / ringPeriodSeconds)));
+  const samplesPerCycle = recordedSamplesPerCycle(scenario.simulation.samplesPerCycle, periodSeconds, ringPeriodSeconds);
   return {
     fastest,
     fastPeriodsPerCycle: periodSeconds / fastest.periodSeconds,

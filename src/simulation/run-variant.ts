@@ -17,6 +17,14 @@ import { SettlingExtrapolator } from './extrapolate.js';
 
 export class SimulationFailure extends Error {}
 
+/**
+ * Waveform samples kept per recorded cycle: the setting, raised to 24 per leakage ring so that the
+ * ring is drawn, at most 50,000 (the request budgets count with the same rule).
+ */
+export function recordedSamplesPerCycle(samplesSetting: number, period: number, leakageRingPeriod: number): number {
+  return Math.min(50_000, Math.max(samplesSetting, Math.ceil((24 * period) / leakageRingPeriod)));
+}
+
 export interface RunStats {
   derivativeEvaluations: number;
   steps: number;
@@ -86,7 +94,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   const turnOffAt = (control.kind === 'fixed-duty' ? control.dutyCycle : control.maxDutyCycle) * period;
   const boundaryCause = control.kind === 'fixed-duty' ? 'fixed-duty' : 'max-duty';
   const turnOffDelay = params.turnOffDelay / SECONDS_PER_TIME_UNIT;
-  const samplesPerCycle = Math.min(50_000, Math.max(settings.samplesPerCycle, Math.ceil((24 * period) / leakageRingPeriod)));
+  const samplesPerCycle = recordedSamplesPerCycle(settings.samplesPerCycle, period, leakageRingPeriod);
   const recorder = new CycleRecorder(params, period, settings.recordedCycles, samplesPerCycle, ringPeriod);
 
   const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
