@@ -23,3 +23,20 @@ export function withIdealParts(s: Scenario): Scenario {
   }
   return out;
 }
+
+/**
+ * The same circuit with every part's value held constant: Coss becomes its value at Vin + VR and
+ * the clamp diode's forward-recovery resistance (which falls with its charge) is left out. The
+ * loop, the junction capacitance, reverse recovery (a linear charge model), avalanche, delay and
+ * current fall stay, so each mode is linear and the physics to resolve (the loop's fast ring, the
+ * diode's recovery) is the same: the reference for what nonlinearity alone costs.
+ */
+export function withConstantParts(s: Scenario): Scenario {
+  const coss = new DrainCapacitance(s.switch.drainCapacitance, 0);
+  const out: Scenario = { ...s, switch: { ...s.switch, drainCapacitance: coss.at(s.supply.voltage + reflectedVoltage(s)) } };
+  if (s.clamp) {
+    const { diodeForwardRecoveryVoltage: _vfp, diodeForwardRecoveryTime: _tfr, ...clamp } = s.clamp;
+    out.clamp = clamp;
+  }
+  return out;
+}
