@@ -60,7 +60,11 @@ export const RECOVERED_CHARGE_FRACTION = 1e-6;
 export class ModeModel {
   readonly key: string;
   readonly size: number;
-  /** Present when every part in this mode is linear (constant capacitances, no forward recovery). */
+  /**
+   * Every part acting in this mode is linear: the drain's capacitance only counts where the drain
+   * is free or moves with the clamp capacitor, the forward-recovery resistance only while the
+   * diode conducts in its loop. A curve leaves the on-time, avalanche and body-diode modes linear.
+   */
   readonly linear: boolean;
   private readonly s: Signals;
   private systemCache: AffineSystem | null = null;
@@ -68,7 +72,9 @@ export class ModeModel {
   constructor(readonly params: CircuitParams, readonly mode: Mode) {
     this.key = modeKey(mode);
     this.size = stateSizeFor(params);
-    this.linear = params.drainNode.isConstant && !params.clamp?.forwardRecovery;
+    const drainCapacitanceActs = mode.drain === 'free' || mode.drain === 'clamp';
+    const forwardRecoveryActs = !!params.clamp?.forwardRecovery && mode.clampDiode === 'on';
+    this.linear = (params.drainNode.isConstant || !drainCapacitanceActs) && !forwardRecoveryActs;
     this.s = {
       drainVoltage: 0, damperCurrent: 0, fallingChannelCurrent: 0, switchCurrent: 0,
       clampDiodeCurrent: 0, clampDiodeVoltage: 0, clampBranchCurrent: 0, bodyDiodeCurrent: 0,

@@ -9,6 +9,7 @@ import { SECONDS_PER_TIME_UNIT, SWITCH_ON, type Mode } from '../model/modes.js';
 import { ICH, IP, KF, VC, VS, stateSizeFor } from '../model/state.js';
 import { settledClampVoltage } from '../equations/rcd-clamp.js';
 import type { Scenario, SimulationSettings, VariantName } from '../circuit/scenario.js';
+import { ExactLinearSegmentIntegrator } from '../solver/exact-linear-segment.js';
 import { OdexSegmentIntegrator } from '../solver/odex-segment.js';
 import type { SegmentIntegrator } from '../solver/segment.js';
 import { OrbitTracker, type OrbitKind } from './orbit.js';
@@ -81,9 +82,11 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   const scales = stateScaleVector(params, model.scales, stateSize);
   const atol = scales.map((s) => s * settings.relativeTolerance);
   const integrator = options.integrator?.(atol, settings, stateSize)
-    ?? new OdexSegmentIntegrator({
-      stateSize, relativeTolerance: settings.relativeTolerance, absoluteTolerance: atol,
-      ...(kinkedField(params) ? { maxExtrapolationColumns: KINKED_FIELD_EXTRAPOLATION_COLUMNS } : {}),
+    ?? new ExactLinearSegmentIntegrator({
+      nonlinear: new OdexSegmentIntegrator({
+        stateSize, relativeTolerance: settings.relativeTolerance, absoluteTolerance: atol,
+        ...(kinkedField(params) ? { maxExtrapolationColumns: KINKED_FIELD_EXTRAPOLATION_COLUMNS } : {}),
+      }),
     });
 
   const period = params.periodSeconds / SECONDS_PER_TIME_UNIT;

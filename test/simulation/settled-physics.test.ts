@@ -48,7 +48,7 @@ describe('bare drain overshoot against the energy balance', () => {
 });
 
 describe.each(demoFiles)('settled demo scenario %s', (file) => {
-  it('balances energy over a settled period: supply = load + every loss + stored change, within 3e-5 of the input; ideal parts cost at most 150 evaluations per leakage ring period, real parts at most 6× that', async () => {
+  it('balances energy over a settled period: supply = load + every loss + stored change, within 3e-5 of the input; ideal parts cost at most 150 evaluations per leakage ring period, real parts at most 900', async () => {
     const scenario = await demo(file);
     const ideal = withIdealParts(scenario);
     for (const variant of availableVariants(scenario)) {
@@ -62,8 +62,10 @@ describe.each(demoFiles)('settled demo scenario %s', (file) => {
       // The work follows the number of leakage rings per period (about 100–160 evaluations per ring, measured).
       const ringsPerPeriod = 1 / (scenario.switch.frequency * leakageRingPeriodSeconds(circuitForVariant(ideal, variant)));
       expect(mIdeal.stats.evaluationsPerPeriod / ringsPerPeriod, `${variant} evaluations per ring, ideal parts`).toBeLessThan(150);
-      // Curve points are kinks and a clamp loop rings fast while the diode conducts (measured 1.3–5.2×).
-      expect(m.stats.evaluationsPerPeriod / mIdeal.stats.evaluationsPerPeriod, `${variant} cost of real parts`).toBeLessThan(6);
+      // Ideal parts take the exact propagators (an evaluation is one matrix–vector product); real
+      // parts go to odex where a mode is nonlinear: curve points are kinks and a clamp loop rings
+      // fast while the diode conducts (measured 130–400 odex evaluations per ring).
+      expect(m.stats.evaluationsPerPeriod / ringsPerPeriod, `${variant} evaluations per ring, real parts`).toBeLessThan(900);
     }
   }, 120_000);
 

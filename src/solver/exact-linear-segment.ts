@@ -1,0 +1,221 @@
+// Exact where the physics is linear, adaptive where it is not: a mode given as dx/dt = A·x + b is
+// advanced by its exact propagator Φ(h), one per mode and step length, with the event functions
+// sampled at every step end and crossings located on the exact trajectory; any other mode goes to
+// the adaptive integrator it wraps.
+
+import type { AffineSystem } from '../model/affine.js';
+import { locateRisingRoot } from './locate-root.js';
+import { augmentedExponential, propagate, spectralRadiusBound, taylorTermsFor, TaylorTrajectory } from './linear-propagator.js';
+import type { SegmentIntegrator, SegmentProblem, SegmentResult, StateAt } from './segment.js';
+
+export interface ExactLinearSettings {
+  /** What integrates the modes that are not linear. */
+  nonlinear: SegmentIntegrator;
+  /**
+   * ρ(A)·h of a step: a crossing is seen when the event function changes sign between step ends,
+   * so the step is a small fraction of the fastest oscillation or decay in the mode (0.3: about 21
+   * samples per period, odex's dense sampling took about 24).
+   */
+  stepTimesSpectralRadius?: number;
+  /** At most this many steps per problem.maxStep (half the fastest ring of the circuit). */
+  stepsPerMaxStep?: number;
+  /** Steps handed to the observer as one piece (the recorder's work is per piece). */
+  stepsPerPiece?: number;
+  maxStepsPerSegment?: number;
+}
+
+interface ModeStep {
+  h: number;
+  phi: Float64Array;
+  /** Taylor terms for the trajectory over one step. */
+  order: number;
+}
+
+/**
+ * An event function along a linear mode's trajectory: g(x) = c·x + c0, so its rate is
+ * dg/dt = c·(A·x + b) = r·x + r0. Null where g is not affine (then only sign changes are seen).
+ */
+interface EventRate { r: Float64Array; r0: number }
+
+/** Reads c off g by probing and keeps it only if g is affine to rounding at a second point. */
+function eventRate(g: (x: ArrayLike<number>) => number, system: AffineSystem): EventRate | null {
+  const n = system.b.length;
+  const x = new Array<number>(n).fill(0);
+  const c0 = g(x);
+  const c = new Float64Array(n);
+  for (let j = 0; j < n; j++) { x[j] = 1; c[j] = g(x) - c0; x[j] = 0; }
+  let predicted = c0, magnitude = Math.abs(c0);
+  for (let j = 0; j < n; j++) { x[j] = 3 + j; predicted += c[j]! * x[j]!; magnitude += Math.abs(c[j]! * x[j]!); }
+  if (!(Math.abs(g(x) - predicted) <= 1e-9 * magnitude)) return null;
+  const r = new Float64Array(n);
+  let r0 = 0;
+  for (let i = 0; i < n; i++) {
+    const ci = c[i]!;
+    if (ci === 0) continue;
+    r0 += ci * system.b[i]!;
+    for (let j = 0; j < n; j++) r[j]! += ci * system.A[i * n + j]!;
+  }
+  return { r, r0 };
+}
+
+function rateAt(rate: EventRate, x: ArrayLike<number>): number {
+  let s = rate.r0;
+  for (let j = 0; j < rate.r.length; j++) s += rate.r[j]! * x[j]!;
+  return s;
+}
+
+export class ExactLinearSegmentIntegrator implements SegmentIntegrator {
+  private readonly nonlinear: SegmentIntegrator;
+  private readonly stepRho: number;
+  private readonly stepsPerMaxStep: number;
+  private readonly stepsPerPiece: number;
+  private readonly maxSteps: number;
+  private readonly radius = new WeakMap<AffineSystem, number>();
+  private readonly steps = new WeakMap<AffineSystem, Map<number, ModeStep>>();
+  private readonly rates = new WeakMap<AffineSystem, Map<(x: ArrayLike<number>) => number, EventRate | null>>();
+
+  constructor(settings: ExactLinearSettings) {
+    this.nonlinear = settings.nonlinear;
+    this.stepRho = settings.stepTimesSpectralRadius ?? 0.3;
+    this.stepsPerMaxStep = settings.stepsPerMaxStep ?? 8;
+    this.stepsPerPiece = settings.stepsPerPiece ?? 8;
+    this.maxSteps = settings.maxStepsPerSegment ?? 2_000_000;
+  }
+
+  private modeStep(system: AffineSystem, maxStep: number): ModeStep {
+    let rho = this.radius.get(system);
+    if (rho === undefined) {
+      rho = spectralRadiusBound(system.A, system.b.length);
+      this.radius.set(system, rho);
+    }
+    let bySystem = this.steps.get(system);
+    if (!bySystem) { bySystem = new Map(); this.steps.set(system, bySystem); }
+    let step = bySystem.get(maxStep);
+    if (!step) {
+      const h = Math.min(maxStep / this.stepsPerMaxStep, rho > 0 ? this.stepRho / rho : Infinity);
+      step = { h, phi: augmentedExponential(system, h), order: taylorTermsFor(rho * h) };
+      bySystem.set(maxStep, step);
+    }
+    return step;
+  }
+
+  private eventRates(system: AffineSystem, events: SegmentProblem['events']): Array<EventRate | null> {
+    let bySystem = this.rates.get(system);
+    if (!bySystem) { bySystem = new Map(); this.rates.set(system, bySystem); }
+    return events.map((g) => {
+      let rate = bySystem.get(g);
+      if (rate === undefined) { rate = eventRate(g, system); bySystem.set(g, rate); }
+      return rate;
+    });
+  }
+
+  integrate(problem: SegmentProblem): SegmentResult {
+    const system = problem.system;
+    if (!system) return this.nonlinear.integrate(problem);
+    const n = system.b.length;
+    const { events, observer, tEnd } = problem;
+    const { h, phi, order } = this.modeStep(system, problem.maxStep);
+    if (!(h > 0) || !Number.isFinite(h)) {
+      return { status: 'failed', t: problem.t0, x: [...problem.x0], eventIndex: -1, lastStep: 0, evaluations: 0, steps: 0, message: 'the mode has no finite step length' };
+    }
+
+    let t = problem.t0;
+    let x = [...problem.x0];
+    let next = new Array<number>(n);
+    const gPrev = events.map((g) => g(x));
+    const gNow = new Array<number>(events.length);
+    const rates = this.eventRates(system, events);
+    const ratePrev = rates.map((r) => (r ? rateAt(r, x) : 0));
+    const rateNow = new Array<number>(events.length);
+    const probe = new Array<number>(n);
+    let steps = 0;
+    let evaluations = 0;
+
+    // The observer's current piece: the start state and time of each of its steps.
+    const pieceStarts: number[][] = [];
+    const pieceTimes: number[] = [];
+    const trajectories: Array<TaylorTrajectory | null> = [];
+    const trajectory = (k: number): TaylorTrajectory => {
+      let tr = trajectories[k];
+      if (!tr) { tr = new TaylorTrajectory(system, pieceStarts[k]!, order); trajectories[k] = tr; evaluations += order; }
+      return tr;
+    };
+    const stateAt: StateAt = (tq, out) => {
+      let k = pieceTimes.length - 1;
+      while (k > 0 && tq < pieceTimes[k]!) k--;
+      trajectory(k).at(tq - pieceTimes[k]!, out);
+    };
+    // Step-start states held by the piece are recycled once the piece has been handed over.
+    const free: number[][] = [];
+    const spare = (previous: number[]): number[] => {
+      if (!pieceStarts.includes(previous)) free.push(previous);
+      return free.pop() ?? new Array<number>(n);
+    };
+    const flush = (tPieceEnd: number): void => {
+      if (observer && pieceTimes.length > 0) observer(pieceTimes[0]!, tPieceEnd, stateAt);
+      for (const start of pieceStarts) if (start !== x) free.push(start);
+      pieceStarts.length = 0;
+      pieceTimes.length = 0;
+      trajectories.length = 0;
+    };
+
+    while (t < tEnd) {
+      if (++steps > this.maxSteps) {
+        return { status: 'failed', t: problem.t0, x: [...problem.x0], eventIndex: -1, lastStep: h, evaluations, steps, message: `the exact stepper exceeded ${this.maxSteps} steps in one segment` };
+      }
+      const remaining = tEnd - t;
+      const full = remaining > h * (1 + 1e-12);
+      const tau = full ? h : remaining;
+      if (observer) { pieceStarts.push(x); pieceTimes.push(t); trajectories.push(null); }
+      let own: TaylorTrajectory | null = null;
+      if (full) propagate(phi, x, next, n);
+      else { own = new TaylorTrajectory(system, x, order); own.at(tau, next); evaluations += order; }
+      evaluations++;
+      const tNext = full ? t + h : tEnd;
+
+      let best = Infinity, bestIndex = -1;
+      const timeTolerance = 1e-13 * Math.max(1, Math.abs(tNext));
+      for (let e = 0; e < events.length; e++) {
+        const g = events[e]!;
+        gNow[e] = g(next);
+        const rate = rates[e]!;
+        if (rate) rateNow[e] = rateAt(rate, next);
+        if (!(gPrev[e]! < 0)) continue;
+        let tCross = tNext, gCross = gNow[e]!;
+        if (gCross < 0) {
+          // Both ends below zero: a crest inside the step may still touch zero (a graze). Its
+          // top is where the rate turns from rising to falling.
+          if (!rate || !(ratePrev[e]! > 0 && rateNow[e]! < 0)) continue;
+          const tr = own ?? (own = new TaylorTrajectory(system, x, order));
+          const tTop = locateRisingRoot((tq) => { tr.at(tq - t, probe); return -rateAt(rate, probe); },
+            t, tNext, -ratePrev[e]!, -rateNow[e]!, timeTolerance);
+          tr.at(tTop - t, probe);
+          gCross = g(probe);
+          if (gCross < 0) continue;
+          tCross = tTop;
+        }
+        const tr = own ?? (own = new TaylorTrajectory(system, x, order));
+        const root = locateRisingRoot((tq) => { tr.at(tq - t, probe); return g(probe); },
+          t, tCross, gPrev[e]!, gCross, timeTolerance);
+        if (root < best) { best = root; bestIndex = e; }
+      }
+      if (bestIndex >= 0) {
+        const hit = new Array<number>(n);
+        own!.at(best - t, hit);
+        flush(best);
+        return { status: 'event', t: best, x: hit, eventIndex: bestIndex, lastStep: h, evaluations, steps };
+      }
+      for (let e = 0; e < events.length; e++) { gPrev[e] = gNow[e]!; ratePrev[e] = rateNow[e]!; }
+      const previous = x;
+      x = next;
+      next = observer ? spare(previous) : previous;
+      t = tNext;
+      if (observer && pieceTimes.length >= this.stepsPerPiece) flush(t);
+    }
+    flush(tEnd);
+    if (!x.every(Number.isFinite)) {
+      return { status: 'failed', t: problem.t0, x: [...problem.x0], eventIndex: -1, lastStep: h, evaluations, steps, message: 'the state became non-finite' };
+    }
+    return { status: 'reached-end', t: tEnd, x, eventIndex: -1, lastStep: h, evaluations, steps };
+  }
+}
