@@ -4,6 +4,7 @@
 // the adaptive integrator it wraps.
 
 import type { AffineSystem } from '../model/affine.js';
+import { eigenvalues } from './eigenvalues.js';
 import { locateRisingRoot } from './locate-root.js';
 import { augmentedExponential, propagate, spectralRadiusBound, taylorTermsFor, TaylorTrajectory } from './linear-propagator.js';
 import type { SegmentIntegrator, SegmentProblem, SegmentResult, StateAt } from './segment.js';
@@ -12,11 +13,16 @@ export interface ExactLinearSettings {
   /** What integrates the modes that are not linear. */
   nonlinear: SegmentIntegrator;
   /**
-   * ρ(A)·h of a step: a crossing is seen when the event function changes sign between step ends,
-   * so the step is a small fraction of the fastest oscillation or decay in the mode (0.3: about 21
-   * samples per period, odex's dense sampling took about 24).
+   * ω·h of a step for the fastest oscillation ω in the mode: a crossing is seen where the event
+   * function changes sign between step ends, a crest that touches zero where its rate does, and
+   * both need at most one crest per step (0.3: about 21 steps per period).
    */
-  stepTimesSpectralRadius?: number;
+  stepTimesOscillation?: number;
+  /**
+   * |σ|·h for the fastest decay rate σ: a decaying part is monotone, so it only has to be resolved
+   * well enough that it adds no second crest within a step (2: it falls to e⁻² in one step).
+   */
+  stepTimesDecay?: number;
   /** At most this many steps per problem.maxStep (half the fastest ring of the circuit). */
   stepsPerMaxStep?: number;
   /** Steps handed to the observer as one piece (the recorder's work is per piece). */
@@ -29,6 +35,19 @@ interface ModeStep {
   phi: Float64Array;
   /** Taylor terms for the trajectory over one step. */
   order: number;
+}
+
+/** The rates that set a mode's step, per time unit; oscillation and decay null if the eigenvalues were not found. */
+interface NaturalRates { radius: number; oscillation: number | null; decay: number | null }
+
+function naturalRates(system: AffineSystem): NaturalRates {
+  const n = system.b.length;
+  const radius = spectralRadiusBound(system.A, n);
+  const values = eigenvalues(system.A, n);
+  if (!values) return { radius, oscillation: null, decay: null };
+  let oscillation = 0, decay = 0;
+  for (const v of values) { oscillation = Math.max(oscillation, Math.abs(v.im)); decay = Math.max(decay, Math.abs(v.re)); }
+  return { radius, oscillation, decay };
 }
 
 /**
@@ -66,34 +85,43 @@ function rateAt(rate: EventRate, x: ArrayLike<number>): number {
 
 export class ExactLinearSegmentIntegrator implements SegmentIntegrator {
   private readonly nonlinear: SegmentIntegrator;
-  private readonly stepRho: number;
+  private readonly stepTimesOscillation: number;
+  private readonly stepTimesDecay: number;
   private readonly stepsPerMaxStep: number;
   private readonly stepsPerPiece: number;
   private readonly maxSteps: number;
-  private readonly radius = new WeakMap<AffineSystem, number>();
+  private readonly modeRates = new WeakMap<AffineSystem, NaturalRates>();
   private readonly steps = new WeakMap<AffineSystem, Map<number, ModeStep>>();
   private readonly rates = new WeakMap<AffineSystem, Map<(x: ArrayLike<number>) => number, EventRate | null>>();
 
   constructor(settings: ExactLinearSettings) {
     this.nonlinear = settings.nonlinear;
-    this.stepRho = settings.stepTimesSpectralRadius ?? 0.3;
-    this.stepsPerMaxStep = settings.stepsPerMaxStep ?? 8;
+    this.stepTimesOscillation = settings.stepTimesOscillation ?? 0.3;
+    this.stepTimesDecay = settings.stepTimesDecay ?? 2;
+    this.stepsPerMaxStep = settings.stepsPerMaxStep ?? 1;
     this.stepsPerPiece = settings.stepsPerPiece ?? 8;
     this.maxSteps = settings.maxStepsPerSegment ?? 2_000_000;
   }
 
   private modeStep(system: AffineSystem, maxStep: number): ModeStep {
-    let rho = this.radius.get(system);
-    if (rho === undefined) {
-      rho = spectralRadiusBound(system.A, system.b.length);
-      this.radius.set(system, rho);
+    let rates = this.modeRates.get(system);
+    if (!rates) {
+      rates = naturalRates(system);
+      this.modeRates.set(system, rates);
     }
     let bySystem = this.steps.get(system);
     if (!bySystem) { bySystem = new Map(); this.steps.set(system, bySystem); }
     let step = bySystem.get(maxStep);
     if (!step) {
-      const h = Math.min(maxStep / this.stepsPerMaxStep, rho > 0 ? this.stepRho / rho : Infinity);
-      step = { h, phi: augmentedExponential(system, h), order: taylorTermsFor(rho * h) };
+      const limits = [maxStep / this.stepsPerMaxStep];
+      if (rates.oscillation !== null && rates.decay !== null) {
+        if (rates.oscillation > 0) limits.push(this.stepTimesOscillation / rates.oscillation);
+        if (rates.decay > 0) limits.push(this.stepTimesDecay / rates.decay);
+      } else if (rates.radius > 0) {
+        limits.push(this.stepTimesOscillation / rates.radius);
+      }
+      const h = Math.min(...limits);
+      step = { h, phi: augmentedExponential(system, h), order: taylorTermsFor(rates.radius * h) };
       bySystem.set(maxStep, step);
     }
     return step;

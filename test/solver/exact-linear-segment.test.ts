@@ -2,6 +2,7 @@ import { describe, expect, it } from 'vitest';
 import { eigs, expm, matrix } from 'mathjs';
 import { ExactLinearSegmentIntegrator } from '../../src/solver/exact-linear-segment.js';
 import { augmentedExponential, spectralRadiusBound } from '../../src/solver/linear-propagator.js';
+import { eigenvalues } from '../../src/solver/eigenvalues.js';
 import type { SegmentIntegrator, SegmentProblem, SegmentResult } from '../../src/solver/segment.js';
 import type { AffineSystem } from '../../src/model/affine.js';
 import { circuitForVariant } from '../../src/model/circuit-params.js';
@@ -70,6 +71,56 @@ describe('augmentedExponential(series RLC, τ) against its closed form', () => {
       expect(Math.abs(phi[0]! - e * (Math.cos(wd * tau) - (a / wd) * Math.sin(wd * tau)))).toBeLessThan(1e-13);
       const v = e * Math.sin(wd * tau) / (c * wd);
       expect(Math.abs(phi[3]! - v) / Math.abs(v)).toBeLessThan(1e-13);
+    }
+  });
+});
+
+describe('eigenvalues(A, n)', () => {
+  // Newton's identities: trace(Aᵏ) = Σ λᵢᵏ for k = 1…n determine the eigenvalues (any linear
+  // algebra text), so they check the QR iteration without a second eigenvalue code.
+  const multiply = (a: number[], b: number[], n: number): number[] => {
+    const out = new Array<number>(n * n).fill(0);
+    for (let i = 0; i < n; i++) for (let l = 0; l < n; l++) for (let j = 0; j < n; j++) out[i * n + j]! += a[i * n + l]! * b[l * n + j]!;
+    return out;
+  };
+  /** A reproducible pseudo-random stream (a linear congruential generator), so failures replay. */
+  const stream = (seed: number) => () => ((seed = (seed * 1103515245 + 12345) % 2147483648) / 2147483648);
+
+  it('satisfies trace(Aᵏ) = Σ λᵏ for k = 1…n within 1e-12 on 500 random matrices of size 1–11 with entries spread over 6 decades', () => {
+    const random = stream(7);
+    let worst = 0, converged = 0;
+    for (let trial = 0; trial < 500; trial++) {
+      const n = 1 + (trial % 11);
+      const A = Array.from({ length: n * n }, () => (random() < 0.3 ? 0 : (random() - 0.5) * Math.exp(14 * (random() - 0.5))));
+      const values = eigenvalues(A, n);
+      if (!values) continue;
+      converged++;
+      expect(values).toHaveLength(n);
+      const scale = Math.max(1e-6, ...values.map((v) => Math.hypot(v.re, v.im)));
+      let power = A.slice();
+      for (let k = 1; k <= n; k++) {
+        let trace = 0;
+        for (let i = 0; i < n; i++) trace += power[i * n + i]!;
+        let re = 0, im = 0;
+        for (const v of values) {
+          let pr = 1, pi = 0;
+          for (let j = 0; j < k; j++) [pr, pi] = [pr * v.re - pi * v.im, pr * v.im + pi * v.re];
+          re += pr; im += pi;
+        }
+        worst = Math.max(worst, (Math.abs(re - trace) + Math.abs(im)) / (n * scale ** k));
+        power = multiply(power, A, n);
+      }
+    }
+    expect(converged).toBeGreaterThanOrEqual(495);
+    expect(worst).toBeLessThan(1e-12);
+  });
+
+  it('gives the series RLC its closed-form pair −R/(2L) ± i·ωd', () => {
+    const l = 2, c = 2e-5, r = 0.3;
+    const a = r / (2 * l), wd = Math.sqrt(1 / (l * c) - a * a);
+    const values = eigenvalues([-r / l, -1 / l, 1 / c, 0], 2)!;
+    for (const sign of [1, -1]) {
+      expect(values.some((v) => Math.abs(v.re + a) < 1e-12 * wd && Math.abs(v.im - sign * wd) < 1e-12 * wd)).toBe(true);
     }
   });
 });
