@@ -45,7 +45,9 @@ export class OdexSegmentIntegrator implements SegmentIntegrator {
     const field = problem.derivative;
     const derivative = (_t: number, y: number[]): number[] => field(y, rates);
 
-    const m = this.samplesPerStep;
+    // The samples keep a density in time of samplesPerStep per maxStep (half the fastest ring): a
+    // step cut short by accuracy needs fewer of them.
+    const density = this.samplesPerStep / problem.maxStep;
     const probe = new Array<number>(n);
     const gPrev = new Array<number>(events.length);
     const gNow = new Array<number>(events.length);
@@ -58,6 +60,7 @@ export class OdexSegmentIntegrator implements SegmentIntegrator {
         for (let i = 0; i < n; i++) out[i] = dense(i, tq);
       };
       if (events.length > 0) {
+        const m = Math.min(this.samplesPerStep, Math.max(2, Math.ceil(density * (t - tOld))));
         stateAt(tOld, probe);
         for (let e = 0; e < events.length; e++) gPrev[e] = events[e]!(probe);
         let tA = tOld;
