@@ -1,0 +1,145 @@
+// Periodic steady state by shooting: find x with P(x) = x for the period map P (one switching
+// cycle from the period-start state x) by Broyden's method on F(x) = P(x) − x. Its Jacobian starts
+// as −I (the first step is one plain cycle) and learns the slow directions, the clamp capacitor's
+// and the damper's, from the steps themselves by rank-one updates (Broyden, Math. Comp. 19, 1965):
+// one cycle per iteration, where cycle after cycle needs many on a slow clamp. The map is only
+// smooth while the sequence of modes stays the same, so anything unexpected hands back to the
+// cycle loop, which keeps its own verdicts (settled, period-p, non-periodic).
+
+import { eigenvalues } from '../solver/eigenvalues.js';
+
+export interface PeriodMapResult {
+  /** The state one period later. */
+  end: number[];
+  /** The next period starts in the same devices' state as this one did (the map stays smooth). */
+  sameStart: boolean;
+}
+
+export interface ShootingResult {
+  /**
+   * 'settled': x is on the orbit; 'handed-back': continue cycle by cycle from x, the end state of
+   * the last cycle run (so the devices' state the caller holds matches it).
+   */
+  outcome: 'settled' | 'handed-back';
+  x: number[];
+  /** Period-map evaluations spent. */
+  cycles: number;
+  /** max |P(x) − x| / scale at the last evaluation. */
+  lastChange: number;
+  /** When settled: the largest multiplier of the map's Jacobian estimate (≥ 1 suggests an unstable orbit). */
+  largestMultiplier?: number;
+  reason?: string;
+}
+
+export interface ShootingOptions {
+  scales: readonly number[];
+  /** The settle tolerance: both the last change and the predicted distance to the orbit below it. */
+  tolerance: number;
+  maxIterations?: number;
+  /** Called after each evaluation with the count so far and the change. */
+  onCycle?: (cycles: number, change: number) => void;
+}
+
+const maxAbs = (v: readonly number[]): number => v.reduce((m, x) => Math.max(m, Math.abs(x)), 0);
+
+export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: number[]) => PeriodMapResult, options: ShootingOptions): ShootingResult {
+  const { scales, tolerance } = options;
+  const n = start.length;
+  const maxIterations = options.maxIterations ?? 40;
+  const toScaled = (x: readonly number[]): number[] => x.map((v, i) => v / scales[i]!);
+  const fromScaled = (u: readonly number[]): number[] => u.map((v, i) => v * scales[i]!);
+
+  let cycles = 0;
+  const evaluate = (u: number[]): { f: number[]; end: number[]; ok: boolean } => {
+    const r = periodMap(fromScaled(u));
+    cycles++;
+    const endScaled = toScaled(r.end);
+    const f = endScaled.map((v, i) => v - u[i]!);
+    options.onCycle?.(cycles, maxAbs(f));
+    return { f, end: r.end, ok: r.sameStart && f.every(Number.isFinite) };
+  };
+
+  // B ≈ ∂F/∂u in scaled units, row-major; −I at first.
+  const B = new Array<number>(n * n).fill(0);
+  for (let i = 0; i < n; i++) B[i * n + i] = -1;
+  let u = toScaled(start);
+  let current = evaluate(u);
+  let quietSteps = 0;
+  for (let iteration = 0; iteration < maxIterations; iteration++) {
+    const change = maxAbs(current.f);
+    if (!current.ok) return { outcome: 'handed-back', x: current.end, cycles, lastChange: change, reason: 'the devices at the period start changed' };
+    const step = solve(B, current.f.map((v) => -v), n);
+    if (!step) return { outcome: 'handed-back', x: current.end, cycles, lastChange: change, reason: 'the Jacobian estimate became singular' };
+    const predicted = maxAbs(step);
+    // On the orbit: this cycle's change and the distance still to go are both below the
+    // tolerance, twice running (one lucky step proves nothing).
+    quietSteps = change < tolerance && predicted < tolerance ? quietSteps + 1 : 0;
+    if (quietSteps >= 2) {
+      return { outcome: 'settled', x: fromScaled(u.map((v, i) => v + step[i]!)), cycles, lastChange: change, largestMultiplier: largestMultiplier(B, n) };
+    }
+    // Halve a step that made the change much larger: far from the orbit the rank-one model of the
+    // map can overshoot (a mode sequence that changes mid-way).
+    let du = step;
+    let uNext = u.map((v, i) => v + du[i]!);
+    let next = evaluate(uNext);
+    for (let halvings = 0; halvings < 3 && next.ok && maxAbs(next.f) > 2 * Math.max(change, tolerance); halvings++) {
+      du = du.map((v) => v / 2);
+      uNext = u.map((v, i) => v + du[i]!);
+      next = evaluate(uNext);
+    }
+    // Broyden's update: B += (ΔF − B·Δu)·Δuᵀ / (Δuᵀ·Δu).
+    const duNorm2 = du.reduce((sum, v) => sum + v * v, 0);
+    if (duNorm2 > 0) {
+      for (let i = 0; i < n; i++) {
+        let bdu = 0;
+        for (let j = 0; j < n; j++) bdu += B[i * n + j]! * du[j]!;
+        const r = (next.f[i]! - current.f[i]! - bdu) / duNorm2;
+        for (let j = 0; j < n; j++) B[i * n + j]! += r * du[j]!;
+      }
+    }
+    if (maxAbs(next.f) > 10 * Math.max(change, tolerance) && iteration > 2) {
+      return { outcome: 'handed-back', x: next.end, cycles, lastChange: maxAbs(next.f), reason: 'the steps stopped converging' };
+    }
+    u = uNext;
+    current = next;
+  }
+  return { outcome: 'handed-back', x: current.end, cycles, lastChange: maxAbs(current.f), reason: `no convergence in ${maxIterations} iterations` };
+}
+
+/**
+ * The largest |eigenvalue| of ∂P/∂x ≈ B + I: below 1 the orbit attracts. Broyden's B is exact
+ * only along the directions the steps explored, so this is a hint to check, not a verdict.
+ */
+function largestMultiplier(B: readonly number[], n: number): number {
+  const J = B.map((v, k) => v + (k % (n + 1) === 0 ? 1 : 0));
+  const values = eigenvalues(J, n);
+  return values ? Math.max(...values.map((v) => Math.hypot(v.re, v.im))) : Infinity;
+}
+
+/** Gaussian elimination with partial pivoting; null when singular. */
+function solve(matrix: readonly number[], rhs: readonly number[], n: number): number[] | null {
+  const a = [...matrix];
+  const b = [...rhs];
+  for (let col = 0; col < n; col++) {
+    let pivot = col;
+    for (let r = col + 1; r < n; r++) if (Math.abs(a[r * n + col]!) > Math.abs(a[pivot * n + col]!)) pivot = r;
+    if (!(Math.abs(a[pivot * n + col]!) > 1e-14)) return null;
+    if (pivot !== col) {
+      for (let j = 0; j < n; j++) { const t = a[col * n + j]!; a[col * n + j] = a[pivot * n + j]!; a[pivot * n + j] = t; }
+      const t = b[col]!; b[col] = b[pivot]!; b[pivot] = t;
+    }
+    for (let r = col + 1; r < n; r++) {
+      const f = a[r * n + col]! / a[col * n + col]!;
+      if (f === 0) continue;
+      for (let j = col; j < n; j++) a[r * n + j]! -= f * a[col * n + j]!;
+      b[r]! -= f * b[col]!;
+    }
+  }
+  const x = new Array<number>(n).fill(0);
+  for (let r = n - 1; r >= 0; r--) {
+    let s = b[r]!;
+    for (let j = r + 1; j < n; j++) s -= a[r * n + j]! * x[j]!;
+    x[r] = s / a[r * n + r]!;
+  }
+  return x;
+}

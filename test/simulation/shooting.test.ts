@@ -1,0 +1,46 @@
+import { describe, expect, it } from 'vitest';
+import { shootPeriodicOrbit } from '../../src/simulation/shooting.js';
+
+// The shooting on affine maps P(x) = M·x + c, whose fixed point solves (I − M)·x* = c in closed
+// form (Cramer's rule for the 2×2 cases here), against plain iteration's known rate |λ|ᵏ.
+
+const affine = (m: number[][], c: number[]) => (x: number[]) => ({
+  end: m.map((row, i) => row.reduce((s, v, j) => s + v * x[j]!, c[i]!)),
+  sameStart: true,
+});
+
+describe('shootPeriodicOrbit(start, P, options)', () => {
+  it('finds the fixed point of a map with a slow mode (multiplier 0.999) in at most 12 evaluations, where plain iteration would need about 9,000 to reach 1e-6', () => {
+    const m = [[0.999, 0.02], [0, 0.3]], c = [1, 2];
+    // (I − M)·x* = c: x2 = 2 / 0.7, x1 = (1 + 0.02·x2) / 0.001.
+    const x2 = 2 / 0.7, x1 = (1 + 0.02 * x2) / 0.001;
+    const result = shootPeriodicOrbit([0, 0], affine(m, c), { scales: [1000, 1], tolerance: 1e-6 });
+    expect(result.outcome).toBe('settled');
+    expect(result.cycles).toBeLessThanOrEqual(12);
+    expect(Math.abs(result.x[0]! - x1) / 1000).toBeLessThan(1e-6);
+    expect(Math.abs(result.x[1]! - x2)).toBeLessThan(1e-6);
+    expect(result.largestMultiplier!).toBeLessThan(1);
+    // Plain iteration: the error shrinks as 0.999ᵏ from about 1 (scaled), so ln(1e-6)/ln(0.999) ≈ 13,800 cycles.
+    expect(Math.log(1e-6) / Math.log(0.999)).toBeGreaterThan(9000);
+  });
+
+  it('flags a repelling fixed point (multiplier −1.6, a subharmonic) by its largest multiplier', () => {
+    const result = shootPeriodicOrbit([0.3], affine([[-1.6]], [1]), { scales: [1], tolerance: 1e-8 });
+    expect(result.outcome).toBe('settled');
+    expect(Math.abs(result.x[0]! - 1 / 2.6)).toBeLessThan(1e-8);
+    expect(result.largestMultiplier!).toBeGreaterThan(1.5);
+  });
+
+  it('hands back to the cycle loop when the devices at the period start change', () => {
+    let calls = 0;
+    const result = shootPeriodicOrbit([0], (x) => ({ end: [0.5 * x[0]! + 1], sameStart: ++calls < 3 }), { scales: [1], tolerance: 1e-12 });
+    expect(result.outcome).toBe('handed-back');
+    expect(result.reason).toMatch(/devices/);
+    expect(result.cycles).toBe(3);
+  });
+
+  it('hands back after its iteration budget on a map with no fixed point', () => {
+    const result = shootPeriodicOrbit([0], (x) => ({ end: [x[0]! + 1], sameStart: true }), { scales: [1], tolerance: 1e-9, maxIterations: 10 });
+    expect(result.outcome).toBe('handed-back');
+  });
+});
