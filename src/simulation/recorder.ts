@@ -63,6 +63,8 @@ const PRIMARY: Tracked = { value: (_e, x) => x[IP]!, rate: (_e, _x, dx) => dx[IP
 
 export class CycleRecorder {
   readonly waveform: Waveform;
+  /** Scratch: each tracked quantity's rate at the extrema scan's sample times. */
+  private readonly sampleRates: number[][] = [];
   readonly cycles: CycleRecord[] = [];
   private current: CycleRecord | null = null;
   private cycleIndex = -1;
@@ -234,36 +236,52 @@ export class CycleRecorder {
       entry.model.derivative(x, dx);
       return q.rate(entry, x, dx);
     };
-    const scan = (q: Tracked, onMax: (t: number) => void, onMin: ((t: number) => void) | null): void => {
-      let tPrev = a;
-      let rPrev = rateAt(q, a);
-      for (let j = 1; j <= samples; j++) {
-        const t = a + ((b - a) * j) / samples;
-        const r = rateAt(q, t);
-        const tol = 1e-12 * Math.max(1, Math.abs(t));
-        if (rPrev > 0 && r <= 0) onMax(locateRisingRoot((tq) => -rateAt(q, tq), tPrev, t, -rPrev, -r, tol));
-        else if (onMin && rPrev < 0 && r >= 0) onMin(locateRisingRoot((tq) => rateAt(q, tq), tPrev, t, rPrev, r, tol));
-        tPrev = t;
-        rPrev = r;
-      }
-    };
     const key = entry.model.key;
-    scan(DRAIN, (t) => {
-      const v = valueAt(DRAIN, t);
-      this.drainCandidate(v, x[VC]!);
-      c.drainMaxima.push({ timeSeconds: t * SECONDS_PER_TIME_UNIT, voltage: v, mode: key });
-    }, (t) => { c.drainVoltage.min = Math.min(c.drainVoltage.min, valueAt(DRAIN, t)); });
+    const scans: Array<{ q: Tracked; onMax: (t: number) => void; onMin: ((t: number) => void) | null }> = [];
+    scans.push({
+      q: DRAIN,
+      onMax: (t) => {
+        const v = valueAt(DRAIN, t);
+        this.drainCandidate(v, x[VC]!);
+        c.drainMaxima.push({ timeSeconds: t * SECONDS_PER_TIME_UNIT, voltage: v, mode: key });
+      },
+      onMin: (t) => { c.drainVoltage.min = Math.min(c.drainVoltage.min, valueAt(DRAIN, t)); },
+    });
     const clamp = this.params.clamp;
     if (clamp) {
-      scan(CLAMP, (t) => { c.clampVoltage.max = Math.max(c.clampVoltage.max, valueAt(CLAMP, t)); },
-        (t) => { c.clampVoltage.min = Math.min(c.clampVoltage.min, valueAt(CLAMP, t)); });
+      scans.push({
+        q: CLAMP,
+        onMax: (t) => { c.clampVoltage.max = Math.max(c.clampVoltage.max, valueAt(CLAMP, t)); },
+        onMin: (t) => { c.clampVoltage.min = Math.min(c.clampVoltage.min, valueAt(CLAMP, t)); },
+      });
       const diodeOn = entry.model.mode.drain === 'clamp' || (clamp.loopInductance > 0 && entry.model.mode.clampDiode === 'on');
       if (diodeOn) {
         const diode = this.clampDiodeTracked(clamp.loopInductance > 0);
-        scan(diode, (t) => { c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, valueAt(diode, t)); }, null);
+        scans.push({ q: diode, onMax: (t) => { c.clampDiodePeakCurrent = Math.max(c.clampDiodePeakCurrent, valueAt(diode, t)); }, onMin: null });
       }
     }
-    scan(PRIMARY, (t) => { c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, valueAt(PRIMARY, t)); }, null);
+    scans.push({ q: PRIMARY, onMax: (t) => { c.primaryPeakCurrent = Math.max(c.primaryPeakCurrent, valueAt(PRIMARY, t)); }, onMin: null });
+
+    // Every tracked rate at each sample time from one state and one field evaluation; a sign
+    // change of a rate between samples is then refined on its own.
+    const rates = this.sampleRates;
+    while (rates.length < scans.length) rates.push([]);
+    for (let j = 0; j <= samples; j++) {
+      stateAt(a + ((b - a) * j) / samples, x);
+      entry.model.derivative(x, dx);
+      for (let k = 0; k < scans.length; k++) rates[k]![j] = scans[k]!.q.rate(entry, x, dx);
+    }
+    for (let k = 0; k < scans.length; k++) {
+      const { q, onMax, onMin } = scans[k]!;
+      const r = rates[k]!;
+      for (let j = 1; j <= samples; j++) {
+        const tPrev = a + ((b - a) * (j - 1)) / samples, t = a + ((b - a) * j) / samples;
+        const rPrev = r[j - 1]!, rNow = r[j]!;
+        const tol = 1e-12 * Math.max(1, Math.abs(t));
+        if (rPrev > 0 && rNow <= 0) onMax(locateRisingRoot((tq) => -rateAt(q, tq), tPrev, t, -rPrev, -rNow, tol));
+        else if (onMin && rPrev < 0 && rNow >= 0) onMin(locateRisingRoot((tq) => rateAt(q, tq), tPrev, t, rPrev, rNow, tol));
+      }
+    }
     stateAt(b, x);
     this.point(entry, x);
   }
