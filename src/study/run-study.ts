@@ -44,9 +44,20 @@ export function createStudyPool(workers?: number): StudyPool {
   return new ProcessPool<PointTask, PointResult>(new URL(`./point-process.${fromSource ? 'ts' : 'js'}`, import.meta.url), workers);
 }
 
+/**
+ * Cycles each point's variant may run unless the scenario sets simulation.maxCycles itself: a
+ * normal point settles in 10–40 (measured on the demos with the shooting), so a point that never
+ * settles costs about ten of them instead of the 300 cycles it takes to call it non-periodic.
+ * Such a point reports orbit 'cycle-cap' (not settled).
+ */
+export const STUDY_POINT_CYCLE_BUDGET = 150;
+
 export function scenarioAtPoint(base: ScenarioJson, values: PointValues): ScenarioJson {
   let json = base;
   for (const [path, value] of Object.entries(values)) json = withNumberAt(json, path, value);
+  const simulation = json['simulation'];
+  const given = typeof simulation === 'object' && simulation !== null ? simulation as Record<string, unknown> : undefined;
+  if (given?.['maxCycles'] === undefined) json = { ...json, simulation: { ...given, maxCycles: STUDY_POINT_CYCLE_BUDGET } };
   return json;
 }
 
