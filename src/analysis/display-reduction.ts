@@ -39,3 +39,26 @@ export function reduceForDisplay(time: ArrayLike<number>, values: ArrayLike<numb
   }
   return out;
 }
+
+/**
+ * Rounds a reduced trace for sending: times to a decimal step of at most 1 % of a column, values
+ * to one of at most 1e-5 of the trace's range (far below a pixel), so that the JSON carries a few
+ * digits per number instead of seventeen.
+ */
+export function roundForDisplay(trace: ReducedTrace, windowSeconds: number, columns: number): ReducedTrace {
+  let lo = Infinity, hi = -Infinity;
+  for (const v of trace.values) { if (v < lo) lo = v; if (v > hi) hi = v; }
+  const range = hi > lo ? hi - lo : Math.max(Math.abs(hi), 1);
+  return {
+    timeSeconds: roundTo(trace.timeSeconds, windowSeconds / columns / 100),
+    values: roundTo(trace.values, range * 1e-5),
+  };
+}
+
+function roundTo(xs: readonly number[], largestStep: number): number[] {
+  if (!(largestStep > 0) || !Number.isFinite(largestStep)) return [...xs];
+  const exponent = Math.floor(Math.log10(largestStep));
+  const step = 10 ** exponent;
+  const digits = Math.min(100, Math.max(0, -exponent));
+  return xs.map((x) => (Number.isFinite(x) ? Number((Math.round(x / step) * step).toFixed(digits)) : x));
+}

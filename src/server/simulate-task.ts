@@ -3,7 +3,7 @@
 
 import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
-import { reduceForDisplay, type ReducedTrace } from '../analysis/display-reduction.js';
+import { reduceForDisplay, roundForDisplay, type ReducedTrace } from '../analysis/display-reduction.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
 import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
 
@@ -45,13 +45,15 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const traces: Partial<Record<VariantName, DisplayTraces>> = {};
   for (const run of runs) {
     const { timeSeconds, channels } = run.recorder.waveform;
+    const shown = (values: ArrayLike<number>): ReducedTrace =>
+      roundForDisplay(reduceForDisplay(timeSeconds, values, start, end, task.columns), end - start, task.columns);
     const entry: DisplayTraces = {
-      drainVoltage: reduceForDisplay(timeSeconds, channels.drainVoltage, start, end, task.columns),
+      drainVoltage: shown(channels.drainVoltage),
       turnOffSeconds: run.recorder.cycles
         .map((c, k) => k * period + c.turnOffSeconds)
         .filter((t) => t >= start && t <= end),
     };
-    if (run.params.clamp) entry.clampVoltage = reduceForDisplay(timeSeconds, channels.clampVoltage, start, end, task.columns);
+    if (run.params.clamp) entry.clampVoltage = shown(channels.clampVoltage);
     traces[run.variant] = entry;
   }
   return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds };

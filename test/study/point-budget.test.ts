@@ -1,10 +1,11 @@
 import { describe, expect, it } from 'vitest';
 import { scenarioAtPoint, STUDY_POINT_CYCLE_BUDGET } from '../../src/study/run-study.js';
+import type { ScenarioJson } from '../../src/circuit/scenario-json.js';
 import { validateScenario } from '../../src/circuit/validate-scenario.js';
 import { runVariant } from '../../src/simulation/run-variant.js';
 import { readFileSync } from 'node:fs';
 
-const base = JSON.parse(readFileSync('scenarios/gate-drive-24v.json', 'utf8')) as Record<string, unknown>;
+const base = JSON.parse(readFileSync('scenarios/gate-drive-24v.json', 'utf8')) as ScenarioJson;
 
 describe('scenarioAtPoint(base, values): the cycle budget of a study point', () => {
   it(`caps each point at ${STUDY_POINT_CYCLE_BUDGET} cycles where the scenario sets no simulation.maxCycles, and keeps a cap the scenario sets`, () => {

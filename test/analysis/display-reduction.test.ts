@@ -1,0 +1,33 @@
+import { describe, expect, it } from 'vitest';
+import { reduceForDisplay, roundForDisplay } from '../../src/analysis/display-reduction.js';
+
+// A damped 10 MHz ring sampled at 10 GS/s over 5 µs: 50,000 samples for a 1000-column plot.
+const time = Array.from({ length: 50_000 }, (_, i) => i * 1e-10);
+const values = time.map((t) => 60 + 120 * Math.exp(-t / 1e-6) * Math.sin(2 * Math.PI * 1e7 * t));
+
+describe('reduceForDisplay(time, values, start, end, columns)', () => {
+  it('keeps each column\'s smallest and largest sample, in time order (checked by brute force per column)', () => {
+    const columns = 1000, width = 5e-6 / columns;
+    const reduced = reduceForDisplay(time, values, 0, 5e-6, columns);
+    expect(reduced.values).toHaveLength(2 * columns);
+    for (let c = 0; c < columns; c += 97) {
+      const inColumn = values.filter((_, i) => time[i]! >= c * width && (c === columns - 1 || time[i]! < (c + 1) * width));
+      const pair = reduced.values.slice(2 * c, 2 * c + 2);
+      expect(Math.min(...pair)).toBe(Math.min(...inColumn));
+      expect(Math.max(...pair)).toBe(Math.max(...inColumn));
+      expect(reduced.timeSeconds[2 * c]!).toBeLessThanOrEqual(reduced.timeSeconds[2 * c + 1]!);
+    }
+  });
+});
+
+describe('roundForDisplay(trace, windowSeconds, columns)', () => {
+  it('moves no value by more than 1e-5 of the trace\'s range nor a time by more than 1 % of a column, and shortens the JSON by a quarter at least', () => {
+    const columns = 1000;
+    const reduced = reduceForDisplay(time, values, 0, 5e-6, columns);
+    const rounded = roundForDisplay(reduced, 5e-6, columns);
+    const range = Math.max(...reduced.values) - Math.min(...reduced.values);
+    reduced.values.forEach((v, i) => expect(Math.abs(rounded.values[i]! - v)).toBeLessThanOrEqual(0.5e-5 * range));
+    reduced.timeSeconds.forEach((t, i) => expect(Math.abs(rounded.timeSeconds[i]! - t)).toBeLessThanOrEqual(0.01 * 5e-6 / columns));
+    expect(JSON.stringify(rounded).length).toBeLessThan(0.75 * JSON.stringify(reduced).length);
+  });
+});
