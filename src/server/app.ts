@@ -9,7 +9,8 @@ import { createRequire } from 'node:module';
 import { createPool } from '../workers/create-pool.js';
 import { validateScenario, type ValidationIssue, type ValidationResult } from '../circuit/validate-scenario.js';
 import { availableVariants, VARIANT_NAMES, type Scenario, type VariantName } from '../circuit/scenario.js';
-import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
+import type { SimulateTask } from './simulate-task.js';
+import { simulateVariantsInParallel } from './simulate-parallel.js';
 import type { DesignTaskResult } from './design-task.js';
 import type { CaptureTaskResult } from './fit-task.js';
 import { MAX_FIT_SIMULATIONS } from '../capture/fit-model.js';
@@ -185,7 +186,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
 
   app.post('/api/simulate', async (req, res) => {
     const { warnings, ...task } = readSimulateBody(req.body, runTimeCapMs);
-    const result = await admitted(res, runTimeCapMs, (signal) => pool.run({ kind: 'simulate', ...task }, { signal })) as SimulateTaskResult;
+    const result = await admitted(res, runTimeCapMs, (signal) => simulateVariantsInParallel((t) => pool.run(t, { signal }), task));
     if (!result.ok) throw failed(result.failure);
     const { problems } = soundVariants(result.report.variants);
     if (problems.length > 0) throw failed(problems.join('; '));

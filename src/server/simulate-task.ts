@@ -15,6 +15,21 @@ export interface SimulateTask {
   columns: number;
   /** Time cap of the run, ms, counted from when the worker starts it (time queued does not count). */
   capMs: number;
+  /** The scenario's peak current is already the one that delivers its output power. */
+  operatingPointSettled?: boolean;
+}
+
+export interface OperatingPointTask { scenario: Scenario; capMs: number }
+export type OperatingPointTaskResult = { ok: true; scenario: Scenario } | { ok: false; failure: string };
+
+/** The scenario with the peak current that delivers its output power (unchanged when it gives none). */
+export function runOperatingPointTask(task: OperatingPointTask): OperatingPointTaskResult {
+  try {
+    return { ok: true, scenario: settleOperatingPoint(task.scenario, { deadlineMs: Date.now() + task.capMs }).scenario };
+  } catch (error) {
+    if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
+    throw error;
+  }
 }
 
 export interface DisplayTraces {
@@ -32,7 +47,7 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const runs: VariantRun[] = [];
   const deadlineMs = Date.now() + task.capMs;
   try {
-    const scenario = settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
+    const scenario = task.operatingPointSettled ? task.scenario : settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
     for (const v of task.variants) runs.push(runVariant(scenario, v, { deadlineMs }));
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
