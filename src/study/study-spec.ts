@@ -7,7 +7,13 @@ import { fieldUnit } from '../circuit/validate-scenario.js';
 export interface VaryRange { path: string; from: number; to: number; steps: number }
 export interface Tolerance { path: string; fraction: number; distribution: 'uniform' | 'normal' }
 
-export class StudySpecError extends Error {}
+/** The study request's words, as flags on the command line and fields of an HTTP body. */
+export type StudyFlag = 'vary' | 'corners' | 'samples' | 'tolerance' | 'seed';
+
+/** A bad study word: `flag` names it, `detail` says what was expected and found; the message is the CLI's "--flag …". */
+export class StudySpecError extends Error {
+  constructor(readonly flag: StudyFlag, readonly detail: string) { super(`--${flag}${detail.startsWith('"') ? ' ' : ': '}${detail}`); }
+}
 
 const VARY_HEAD = /^([A-Za-z][\w.]*)=([\s\S]*)$/;
 const STEPS = /^\d+$/;
@@ -26,7 +32,7 @@ const VARY_SHAPE = 'expected PATH=FROM..TO[:STEPS], e.g. transformer.leakageIndu
  */
 export function parseVary(text: string, nominal: (path: string) => number | undefined): VaryRange {
   const head = VARY_HEAD.exec(text.trim());
-  if (!head) throw new StudySpecError(`--vary "${text}": ${VARY_SHAPE}`);
+  if (!head) throw new StudySpecError('vary', `"${text}": ${VARY_SHAPE}`);
   const path = head[1]!;
   // The step count is whatever follows the last colon, so a bad count is reported as a count.
   const colon = head[2]!.lastIndexOf(':');
@@ -34,25 +40,25 @@ export function parseVary(text: string, nominal: (path: string) => number | unde
   const stepsText = colon >= 0 ? head[2]!.slice(colon + 1).trim() : undefined;
   const ends = range.split('..');
   if (ends.length !== 2 || ends.some((e) => e.trim() === '') || /\.\.\./.test(range)) {
-    throw new StudySpecError(`--vary "${text}": ${VARY_SHAPE} (FROM and TO separated by exactly two dots), found "${range}"`);
+    throw new StudySpecError('vary', `"${text}": ${VARY_SHAPE} (FROM and TO separated by exactly two dots), found "${range}"`);
   }
   const base = nominal(path);
-  if (base === undefined) throw new StudySpecError(`--vary "${text}": expected a numeric scenario field, found no field ${path} in this scenario`);
+  if (base === undefined) throw new StudySpecError('vary', `"${text}": expected a numeric scenario field, found no field ${path} in this scenario`);
   const unit = fieldUnit(path) ?? '';
   const from = parseEnd(ends[0]!, base, text, 'FROM', unit);
   const to = parseEnd(ends[1]!, base, text, 'TO', unit);
   // "-20%..+20" (a % forgotten) would sweep to 20 H: an end far from the nominal value is refused.
   for (const [which, value] of [['FROM', from], ['TO', to]] as const) {
     if (base !== 0 && !(Math.abs(value / base) >= 1e-3 && Math.abs(value / base) <= 1e3)) {
-      throw new StudySpecError(`--vary "${text}": expected ${which} within a factor of 1000 of the nominal ${base} (a percentage needs its %), found ${value}`);
+      throw new StudySpecError('vary', `"${text}": expected ${which} within a factor of 1000 of the nominal ${base} (a percentage needs its %), found ${value}`);
     }
   }
   if (stepsText !== undefined && !STEPS.test(stepsText)) {
-    throw new StudySpecError(`--vary "${text}": expected STEPS after the colon as a whole number from 2 to 1000, found "${stepsText}"`);
+    throw new StudySpecError('vary', `"${text}": expected STEPS after the colon as a whole number from 2 to 1000, found "${stepsText}"`);
   }
   const steps = stepsText === undefined ? (from === to ? 1 : DEFAULT_STEPS) : Number(stepsText);
   if (!(steps >= 1 && steps <= 1000) || (steps === 1 && from !== to)) {
-    throw new StudySpecError(`--vary "${text}": expected STEPS from 2 to 1000 for a range (1 only when FROM equals TO), found ${stepsText}`);
+    throw new StudySpecError('vary', `"${text}": expected STEPS from 2 to 1000 for a range (1 only when FROM equals TO), found ${stepsText}`);
   }
   return { path, from, to, steps };
 }
@@ -62,16 +68,16 @@ function parseEnd(text: string, nominal: number, whole: string, which: string, u
   if (pct) return nominal * (1 + Number(pct[1]) / 100);
   const parsed = parseSiNumber(text.trim(), unit);
   if (parsed.ok) return parsed.value;
-  throw new StudySpecError(`--vary "${whole}": expected ${which} as ${parsed.expected}, or a percentage of the nominal value (e.g. -20%), found "${text}"`);
+  throw new StudySpecError('vary', `"${whole}": expected ${which} as ${parsed.expected}, or a percentage of the nominal value (e.g. -20%), found "${text}"`);
 }
 
 export function parseTolerance(text: string, nominal: (path: string) => number | undefined): Tolerance {
   const m = TOLERANCE.exec(text.trim());
-  if (!m) throw new StudySpecError(`--tolerance "${text}": expected PATH=±X% with an optional :uniform or :normal, e.g. transformer.leakageInductance=±20% or clamp.resistance=±5%:normal`);
+  if (!m) throw new StudySpecError('tolerance', `"${text}": expected PATH=±X% with an optional :uniform or :normal, e.g. transformer.leakageInductance=±20% or clamp.resistance=±5%:normal`);
   const path = m[1]!;
-  if (nominal(path) === undefined) throw new StudySpecError(`--tolerance "${text}": expected a numeric scenario field, found no field ${path} in this scenario`);
+  if (nominal(path) === undefined) throw new StudySpecError('tolerance', `"${text}": expected a numeric scenario field, found no field ${path} in this scenario`);
   const fraction = Number(m[2]) / 100;
-  if (!(fraction > 0 && fraction < 1)) throw new StudySpecError(`--tolerance "${text}": expected X between 0 and 100 (exclusive), found ${m[2]}`);
+  if (!(fraction > 0 && fraction < 1)) throw new StudySpecError('tolerance', `"${text}": expected X between 0 and 100 (exclusive), found ${m[2]}`);
   return { path, fraction, distribution: (m[3] as Tolerance['distribution'] | undefined) ?? 'uniform' };
 }
 
