@@ -21,5 +21,10 @@ export function validateScenario(input: unknown): ValidationResult {
   const parsed = scenarioSchema.safeParse(input);
   if (!parsed.success) return { ok: false, issues: toValidationIssues(parsed.error.issues, input) };
   const scenario = parsed.data;
-  return { ok: true, scenario, warnings: [...plausibilityWarnings(scenario), ...physicsChecks(scenario).warnings] };
+  return { ok: true, scenario, warnings: scenarioWarnings(scenario) };
+}
+
+/** What a valid scenario is warned about: values far from usual, and physics that is unusual but runs. */
+export function scenarioWarnings(scenario: Scenario): ValidationIssue[] {
+  return [...plausibilityWarnings(scenario), ...physicsChecks(scenario).warnings];
 }
