@@ -13,6 +13,9 @@ import {
 /** The unit symbols the SI parser knows ('' for a ratio or a count). */
 export type SiUnit = '' | 'V' | 'A' | 'H' | 'F' | 'Hz' | 's' | 'W' | 'A/s' | 'Ω';
 
+/** Every unit symbol, '' (no unit) first. */
+export const SI_UNITS: readonly SiUnit[] = ['', 'V', 'A', 'H', 'F', 'Hz', 's', 'W', 'A/s', 'Ω'];
+
 /** What values a number may take; `bounds` on a field narrows it further. */
 export type FieldRange = 'positive' | 'non-negative' | 'fraction' | 'whole' | 'any';
 
