@@ -4,7 +4,7 @@
 
 import { execFileSync, spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
-import { mkdir, rm, writeFile } from 'node:fs/promises';
+import { mkdir, readFile, rm, writeFile } from 'node:fs/promises';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
@@ -53,7 +53,7 @@ describe("import from 'flyclamp'", () => {
     expect(out.peak).toBe(cli.variants.bare.peakDrainVoltage);
   });
 
-  it('has types a strict script compiles against, and that refuse a misuse', async () => {
+  it('has types a strict script and the README example compile against, and that refuse a misuse', async () => {
     const good = join(scratch, 'use.ts');
     const bad = join(scratch, 'misuse.ts');
     await writeFile(good, [
@@ -64,11 +64,19 @@ describe("import from 'flyclamp'", () => {
       "const study: Promise<SweepResult> = sweep(scenario, { vary: ['clamp.resistance=10k..22k:3'], workers: 0 });",
       'void design; void peak; void study;',
     ].join('\n'), 'utf8');
+    // The README's example, as a user would paste it.
+    const readme = await readFile(join(root, 'README.md'), 'utf8');
+    const example = /## Library\n[\s\S]*?```ts\n([\s\S]*?)```/.exec(readme)?.[1];
+    expect(example).toBeDefined();
+    const fromReadme = join(scratch, 'readme-example.ts');
+    await writeFile(fromReadme, example ?? '', 'utf8');
     await writeFile(bad, "import { simulate, type Scenario } from 'flyclamp';\ndeclare const s: Scenario;\nsimulate(s, { variants: ['snubbed'] });\n", 'utf8');
     const tsc = (file: string) => spawnSync(process.execPath, [join(root, 'node_modules', 'typescript', 'bin', 'tsc'), '--ignoreConfig', '--noEmit', '--strict', '--module', 'nodenext', '--moduleResolution', 'nodenext', '--target', 'es2022', '--types', 'node', file], { cwd: root, encoding: 'utf8', timeout: 60_000 });
     const ok = tsc(good);
     expect(ok.stdout + ok.stderr).toBe('');
     expect(ok.status).toBe(0);
+    const readmeRun = tsc(fromReadme);
+    expect(readmeRun.stdout + readmeRun.stderr).toBe('');
     const refused = tsc(bad);
     expect(refused.status).not.toBe(0);
     expect(refused.stdout).toMatch(/snubbed/);
