@@ -70,12 +70,13 @@ function wrongNumberType(field: NumberFieldMetadata, input: unknown): string {
   return `expected ${parsed.ok ? numberExpectation(field) : parsed.expected}, found ${describeFound(input)}`;
 }
 
+const isKind = <K extends FieldMetadata['kind']>(field: FieldMetadata, kind: K): field is Extract<FieldMetadata, { kind: K }> => field.kind === kind;
+
+/** A field's metadata; the schema and the table must agree on its kind and presence (checked when the module loads). */
 function metadataOf<K extends FieldMetadata['kind']>(path: string, kind: K, presence: FieldPresence): Extract<FieldMetadata, { kind: K }> {
   const field = fieldAt(path);
-  if (!field || field.kind !== kind || field.presence !== presence) {
-    throw new Error(`field table and schema disagree at ${path}: the schema wants a ${presence} ${kind}`);
-  }
-  return field as Extract<FieldMetadata, { kind: K }>;
+  if (field && isKind(field, kind) && field.presence === presence) return field;
+  throw new Error(`field table and schema disagree at ${path}: the schema wants a ${presence} ${kind}`);
 }
 
 function numberWithMessages(field: NumberFieldMetadata) {
