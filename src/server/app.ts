@@ -53,6 +53,11 @@ export interface ServerOptions {
   workerHeapMb?: number;
   /** Host names (besides IP addresses and localhost) the page may be reached by: the --host given by name. */
   extraHostNames?: string[];
+  /**
+   * Start every worker thread at once, keep them, and run a small simulation in each, so that the
+   * first request finds them warm (`flyclamp serve` does; tests that make many servers do not).
+   */
+  warmWorkers?: boolean;
 }
 
 export interface FlyclampServer {
@@ -95,7 +100,11 @@ export function createServer(given: ServerOptions): FlyclampServer {
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
   const slots = new RunSlots(maxConcurrentRuns, options.maxQueuedRuns ?? 8, options.maxQueueWaitMs ?? 10_000);
   const workerHeapMb = options.workerHeapMb ?? WORKER_HEAP_CEILING_MB;
-  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', { maxThreads: maxConcurrentRuns, maxHeapMb: workerHeapMb });
+  const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', {
+    maxThreads: maxConcurrentRuns, maxHeapMb: workerHeapMb, ...(options.warmWorkers ? { minThreads: maxConcurrentRuns } : {}),
+  });
+  // One warm-up per thread, all at once, so that each thread takes one; a failure only costs the warmth.
+  if (options.warmWorkers) for (let k = 0; k < maxConcurrentRuns; k++) pool.run({ kind: 'warm-up' }).catch(() => undefined);
   // Sweeps run on worker processes, made on the first sweep (they scale better than threads) and
   // made again when the old ones stopped working.
   let studyPool: StudyPool | undefined;

@@ -6,6 +6,8 @@ import { availableParallelism } from 'node:os';
 
 export interface PoolOptions {
   maxThreads?: number;
+  /** Threads kept alive even when idle (0 by default: started on demand, stopped after idleTimeoutMs). */
+  minThreads?: number;
   idleTimeoutMs?: number;
   /** Old-generation heap ceiling per worker thread, MB: a worker over it dies alone, the process lives. */
   maxHeapMb?: number;
@@ -18,7 +20,7 @@ export function createPool<Task, Result>(callerUrl: string, workerBaseName: stri
   const pool = new Piscina<Task, Result>({
     filename: decodeURIComponent(filename),
     ...(fromSource ? { execArgv: ['--import', 'tsx'] } : {}),
-    minThreads: 0,
+    minThreads: options.minThreads ?? 0,
     maxThreads: options.maxThreads ?? Math.max(1, availableParallelism()),
     idleTimeout: options.idleTimeoutMs ?? 30_000,
     resourceLimits: { maxYoungGenerationSizeMb: 128, ...(options.maxHeapMb ? { maxOldGenerationSizeMb: options.maxHeapMb } : {}) },
