@@ -61,6 +61,11 @@ export interface RunOptions {
   extrapolate?: boolean;
   /** Run exactly this many cycles before recording, whatever the settle test says (benchmarks). */
   exactCycles?: number;
+  /**
+   * Cycles to record when the orbit settled (at most simulation.recordedCycles): a study point keeps
+   * only metrics, and one settled cycle gives them all; other orbits record them all.
+   */
+  recordedCyclesWhenSettled?: number;
   /** Called after each settling cycle with the count so far and the last change of the period-start state. */
   onCycle?: (cycles: number, change: number) => void;
 }
@@ -108,7 +113,8 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   const boundaryCause = control.kind === 'fixed-duty' ? 'fixed-duty' : 'max-duty';
   const turnOffDelay = params.turnOffDelay / SECONDS_PER_TIME_UNIT;
   const samplesPerCycle = recordedSamplesPerCycle(settings.samplesPerCycle, period, leakageRingPeriod);
-  const recorder = new CycleRecorder(params, period, settings.recordedCycles, samplesPerCycle, ringPeriod);
+  // Made once the orbit is known: a settled one may need fewer recorded cycles (see RunOptions).
+  let recorder: CycleRecorder | undefined;
 
   const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
   const lastStepByMode = new Map<string, number>();
@@ -164,7 +170,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
       openAt = Math.min(turnOffAt, t + turnOffDelay);
       return entry;
     }
-    if (recordingNow) { recorder.point(entry, x); recorder.turnOff(t, 'peak-current'); }
+    if (recordingNow) { recorder!.point(entry, x); recorder!.turnOff(t, 'peak-current'); }
     return openSwitch(entry, x);
   };
   let recordingNow = false;
@@ -210,12 +216,12 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     // The difference, not the energy at vd alone: in CCM the channel holds Ron·ip right after turn-on.
     const turnOnLoss = params.drainNode.energy(vdBefore) - params.drainNode.energy(vdAfter);
     entry = resolveInstant(entry, x, new Set<DeviceName>(['switch']));
-    if (before) recorder.startCycle(before, entry, x, turnOnLoss);
+    if (before) recorder!.startCycle(before, entry, x, turnOnLoss);
     let t = 0;
     cycleTime = 0;
     let eventsThisCycle = 0;
     const observer = recording
-      ? (a: number, b: number, stateAt: (t: number, out: number[]) => void) => recorder.piece(entry, a, b, stateAt)
+      ? (a: number, b: number, stateAt: (t: number, out: number[]) => void) => recorder!.piece(entry, a, b, stateAt)
       : undefined;
     while (t < period) {
       const switchOn = entry.model.mode.drain === 'switch';
@@ -243,7 +249,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
         cycleTime = t;
         if (result.status === 'event') {
           const event = events[result.eventIndex]!;
-          if (recording) recorder.point(entry, x);
+          if (recording) recorder!.point(entry, x);
           stats.events++;
           // A slow cycle (a fast ring at a tight tolerance) must not outlive the deadline by much.
           if (eventsThisCycle % 64 === 63) checkDeadline();
@@ -252,21 +258,21 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
           }
           entry = event.device === 'switch' ? comparatorTripped(entry, x, t) : model.enter(event.next, x);
           entry = resolveInstant(entry, x, new Set<DeviceName>([event.device]));
-          if (recording) recorder.point(entry, x);
+          if (recording) recorder!.point(entry, x);
           continue;
         }
       }
       if (switchOn) {
         // A known opening instant: fixed duty, the maximum duty, or the end of the turn-off delay.
         const cause = control.kind === 'fixed-duty' ? 'fixed-duty' : tripped ? 'peak-current' : boundaryCause;
-        if (recording) { recorder.point(entry, x); recorder.turnOff(t, cause); }
+        if (recording) { recorder!.point(entry, x); recorder!.turnOff(t, cause); }
         entry = openSwitch(entry, x);
         entry = resolveInstant(entry, x, new Set<DeviceName>(['switch']));
         stats.events++;
       }
     }
     mode = entry.model.mode;
-    if (recording) recorder.endCycle(entry, x, turnOffCurrent);
+    if (recording) recorder!.endCycle(entry, x, turnOffCurrent);
   };
 
 
@@ -323,15 +329,19 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     options.onCycle?.(cycles, tracker.lastChange);
     checkDeadline();
   }
-  while (!recorder.done) {
+  const recordedCycles = verdict === 'settled' && options.recordedCyclesWhenSettled !== undefined
+    ? Math.min(settings.recordedCycles, options.recordedCyclesWhenSettled) : settings.recordedCycles;
+  const made = new CycleRecorder(params, period, recordedCycles, samplesPerCycle, ringPeriod);
+  recorder = made;
+  while (!made.done) {
     runCycle(true);
     cycles++;
     checkDeadline();
   }
   stats.wallTimeMs = performance.now() - started;
   return {
-    variant, params, orbit: verdict, cycles, recordedCycles: recorder.cycles.length,
-    finalChange: finalChange ?? tracker.lastChange, recorder, stats,
+    variant, params, orbit: verdict, cycles, recordedCycles: made.cycles.length,
+    finalChange: finalChange ?? tracker.lastChange, recorder: made, stats,
   };
 }
 

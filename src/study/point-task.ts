@@ -23,7 +23,8 @@ export function runPointTask(task: PointTask): PointResult {
   const validated = validateScenario(task.scenarioJson);
   if (!validated.ok) return { ok: false, failure: `invalid at this point: ${formatIssues(validated.issues).replace(/\n/g, '; ')}` };
   const deadlines = [task.deadlineMs, task.capMs === undefined ? undefined : Date.now() + task.capMs].filter((d): d is number => d !== undefined);
-  const options = deadlines.length > 0 ? { deadlineMs: Math.min(...deadlines) } : {};
+  // A point keeps only metrics: one recorded cycle of a settled orbit gives them all.
+  const options = { recordedCyclesWhenSettled: 1, ...(deadlines.length > 0 ? { deadlineMs: Math.min(...deadlines) } : {}) };
   try {
     const scenario = settleOperatingPoint(validated.scenario, options).scenario;
     const runs = (task.variants ?? availableVariants(scenario)).map((v) => runVariant(scenario, v, options));
