@@ -2,22 +2,21 @@
 // "leakageInductance" twice silently loses one value. This scan finds repeated keys in text that
 // JSON.parse has already accepted: one pass, an explicit stack (no recursion), linear time.
 
-import type { ValidationIssue } from './validate-scenario.js';
+import { issueAt, type PathKey, type ValidationIssue } from '../contract/issues.js';
 
-interface Frame { object: boolean; path: string; keys: Set<string>; key: string | null; expectKey: boolean; index: number }
+interface Frame { object: boolean; path: readonly PathKey[]; keys: Set<string>; key: string | null; expectKey: boolean; index: number }
 
 /** Reports at most this many repeats: a document with thousands of them needs no more to be fixed. */
 const MAX_REPORTED = 20;
 
-/** Issues for keys repeated within one object, named by the path of the repeat (`rootPath` before it). */
-export function duplicateKeyIssues(text: string, rootPath = ''): ValidationIssue[] {
+/** Issues for keys repeated within one object, named by the path of the repeat (`rootKeys` before it). */
+export function duplicateKeyIssues(text: string, rootKeys: readonly PathKey[] = []): ValidationIssue[] {
   const issues: ValidationIssue[] = [];
   const stack: Frame[] = [];
-  const join = (path: string, key: string): string => (path ? `${path}.${key}` : key);
-  const childPath = (): string => {
+  const childPath = (): readonly PathKey[] => {
     const top = stack[stack.length - 1];
-    if (!top) return rootPath;
-    return top.object ? join(top.path, top.key ?? '') : `${top.path}[${top.index}]`;
+    if (!top) return rootKeys;
+    return top.object ? [...top.path, top.key ?? ''] : [...top.path, top.index];
   };
   for (let i = 0; i < text.length && issues.length < MAX_REPORTED; i++) {
     const c = text[i];
@@ -35,7 +34,7 @@ export function duplicateKeyIssues(text: string, rootPath = ''): ValidationIssue
       const top = stack[stack.length - 1];
       if (top?.object && top.expectKey) {
         const key = JSON.parse(text.slice(i, end + 1)) as string;
-        if (top.keys.has(key)) issues.push({ path: join(top.path, key), message: 'expected each field once in its block, found it again (the later value would silently replace the earlier one)' });
+        if (top.keys.has(key)) issues.push(issueAt([...top.path, key], 'expected each field once in its block, found it again (the later value would silently replace the earlier one)'));
         top.keys.add(key);
         top.key = key;
         top.expectKey = false;

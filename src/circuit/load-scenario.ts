@@ -1,6 +1,7 @@
 import type { Stats } from 'node:fs';
 import { open, stat } from 'node:fs/promises';
-import { validateScenario, type ValidationIssue, type ValidationResult } from './validate-scenario.js';
+import { validateScenario, type ValidationResult } from './validate-scenario.js';
+import { issueAtPlace, type ValidationIssue } from '../contract/issues.js';
 import { checkInputLimits } from './input-limits.js';
 import { duplicateKeyIssues } from './duplicate-keys.js';
 
@@ -8,7 +9,7 @@ import { duplicateKeyIssues } from './duplicate-keys.js';
 export const MAX_SCENARIO_FILE_BYTES = 256 * 1024;
 
 type Loaded = ValidationResult & { raw?: unknown };
-const refused = (path: string, message: string): Loaded => ({ ok: false, issues: [{ path, message }] });
+const refused = (file: string, message: string): Loaded => ({ ok: false, issues: [issueAtPlace(file, message)] });
 
 /** Reads and validates a scenario file; unreadable, oversized and malformed files become issues too. */
 export async function loadScenarioFile(file: string): Promise<Loaded> {
@@ -42,7 +43,7 @@ export async function loadScenarioFile(file: string): Promise<Loaded> {
   } catch (error) {
     return { ok: false, issues: [jsonSyntaxIssue(file, text, (error as Error).message)] };
   }
-  const limits = [...checkInputLimits(raw, ''), ...duplicateKeyIssues(text)];
+  const limits = [...checkInputLimits(raw, []), ...duplicateKeyIssues(text)];
   if (limits.length > 0) return { ok: false, issues: limits };
   return { ...validateScenario(raw), raw };
 }
@@ -52,9 +53,9 @@ function jsonSyntaxIssue(file: string, text: string, parserMessage: string): Val
   // The parser quotes a piece of the text, line breaks and all: one line per issue.
   const message = parserMessage.replace(/\s+/g, ' ');
   const position = /position (\d+)/.exec(message)?.[1];
-  if (position === undefined) return { path: file, message: `expected JSON, found a syntax error: ${message}` };
+  if (position === undefined) return issueAtPlace(file, `expected JSON, found a syntax error: ${message}`);
   const before = text.slice(0, Number(position));
   const line = before.split('\n').length;
   const column = before.length - before.lastIndexOf('\n');
-  return { path: `${file}:${line}:${column}`, message: `expected JSON, found a syntax error: ${message.replace(/ in JSON at position \d+.*$/, '')}` };
+  return issueAtPlace(`${file}:${line}:${column}`, `expected JSON, found a syntax error: ${message.replace(/ in JSON at position \d+.*$/, '')}`);
 }

@@ -4,7 +4,7 @@
 // flybacks (bias and auxiliary supplies up to a few hundred watts), deliberately wide.
 
 import type { Scenario } from './scenario.js';
-import type { ValidationIssue } from './validate-scenario.js';
+import { issueAtField, type ValidationIssue } from '../contract/issues.js';
 
 const fmt = (x: number): string => Number(x.toPrecision(3)).toString();
 
@@ -32,11 +32,11 @@ export function plausibilityWarnings(s: Scenario): ValidationIssue[] {
   for (const r of RANGES) {
     const v = r.value(s);
     if (v === undefined || (v >= r.low && v <= r.high)) continue;
-    out.push({ path: r.path, message: `${fmt(v)} ${r.unit} is far outside what a flyback uses (${r.usual}): check the unit and the SI prefix (m is milli, M is mega)`.replace('  ', ' ') });
+    out.push(issueAtField(r.path, `${fmt(v)} ${r.unit} is far outside what a flyback uses (${r.usual}): check the unit and the SI prefix (m is milli, M is mega)`.replace('  ', ' ')));
   }
   const lm = s.transformer.magnetizingInductance, llk = s.transformer.leakageInductance;
   if (llk > 0.2 * lm && llk < lm) {
-    out.push({ path: 'transformer.leakageInductance', message: `${fmt(llk)} H is ${fmt((100 * llk) / lm)} % of the magnetizing inductance; a flyback's leakage is usually 0.5–10 % of it: check the value and its prefix` });
+    out.push(issueAtField('transformer.leakageInductance', `${fmt(llk)} H is ${fmt((100 * llk) / lm)} % of the magnetizing inductance; a flyback's leakage is usually 0.5–10 % of it: check the value and its prefix`));
   }
   return out;
 }

@@ -1,5 +1,6 @@
 import { loadScenarioFile } from '../circuit/load-scenario.js';
-import { fieldUnit, formatIssues } from '../circuit/validate-scenario.js';
+import { formatIssues } from '../circuit/validate-scenario.js';
+import { fieldUnit } from '../contract/field-metadata.js';
 import { formatSi } from '../circuit/si-number.js';
 import { getNumberAt, scenarioToJson } from '../circuit/scenario-json.js';
 import type { VariantName } from '../circuit/scenario.js';

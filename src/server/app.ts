@@ -7,8 +7,15 @@ import { availableParallelism } from 'node:os';
 import { join, resolve } from 'node:path';
 import { createRequire } from 'node:module';
 import { createPool } from '../workers/create-pool.js';
-import { validateScenario, type ValidationIssue, type ValidationResult } from '../circuit/validate-scenario.js';
-import { availableVariants, VARIANT_NAMES, type Scenario, type VariantName } from '../circuit/scenario.js';
+import type * as z from 'zod';
+import { scenarioWarnings, validateScenario, type ValidationIssue } from '../circuit/validate-scenario.js';
+import {
+  captureRequestSchema, designRequestSchema, fitRequestSchema, parseRequest, simulateRequestSchema, sweepRequestSchema,
+  type CaptureRequest, type CaptureResponse, type DesignResponse, type ErrorResponse, type FitRequest, type FitResponse,
+  type HealthResponse, type ScenarioListResponse, type SimulateResponse, type SweepResponse,
+} from '../contract/api.js';
+import { issueAt, issueAtField, type PathKey } from '../contract/issues.js';
+import { availableVariants, type Scenario } from '../circuit/scenario.js';
 import type { SimulateTask, SimulateTaskResult } from './simulate-task.js';
 import type { DesignTaskResult } from './design-task.js';
 import type { CaptureTaskResult } from './fit-task.js';
@@ -16,7 +23,7 @@ import { MAX_FIT_SIMULATIONS } from '../capture/fit-model.js';
 import type { ServerTask, ServerTaskResult } from './server-worker.js';
 import { createStudyPool, runStudy, scenarioAtPoint, type StudyPool } from '../study/run-study.js';
 import { choosePoints } from '../study/choose-points.js';
-import { StudySpecError } from '../study/study-spec.js';
+import { StudySpecError, type StudyFlag } from '../study/study-spec.js';
 import { peakDistribution, worstPerVariant } from '../study/study-summary.js';
 import { getNumberAt, scenarioToJson, type ScenarioJson } from '../circuit/scenario-json.js';
 import { drainDerating } from '../analysis/simulation-report.js';
@@ -53,7 +60,6 @@ export interface FlyclampServer {
 }
 
 const SCENARIO_ID = /^[a-z0-9][a-z0-9-]{0,63}$/;
-const MAX_COLUMNS = 4000;
 const MAX_SWEEP_POINTS = 200;
 /** A sweep's recorded samples in all (points × variants × recorded samples per variant): 200 points × 3 variants at 20,000 each. */
 export const MAX_STUDY_RECORDED_SAMPLES = 12_000_000;
@@ -149,7 +155,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
   app.use(hostCheck({ extraHostNames: options.extraHostNames ?? [] }));
   // A cheap route answered on the request thread: runs never block it (they are in workers).
   app.get('/api/health', (_req, res) => {
-    res.json({ ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots } });
+    const answer: HealthResponse = { ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots } };
+    res.json(answer);
   });
   // The text is kept for the repeated-key scan (JSON.parse keeps the last of two equal keys silently).
   // The capture routes carry a CSV and get their own, larger limit; the parser below then skips them.
@@ -164,16 +171,19 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const { scenario, ...rest } = isObject ? body as Record<string, unknown> : { scenario: undefined };
     // A capture's CSV text is bounded by its route's body limit and its reader, not by the text limit.
     if (CAPTURE_ROUTES.includes(req.path)) delete (rest as Record<string, unknown>).capture;
-    const issues = [...checkInputLimits(isObject ? rest : body, 'body'), ...(scenario === undefined ? [] : checkInputLimits(scenario, ''))];
+    const issues = [...checkInputLimits(isObject ? rest : body, ['body']), ...(scenario === undefined ? [] : checkInputLimits(scenario, []))];
     const raw = (req as RawBodied).rawBody;
     if (issues.length === 0 && raw) {
-      issues.push(...duplicateKeyIssues(raw.toString('utf8'), 'body').map((i) => ({ ...i, path: i.path.replace(/^body\.scenario\./, '') })));
+      // A repeat inside the scenario is named as in a scenario file, like its other issues.
+      const inScenario = (keys: readonly PathKey[]): boolean => keys[0] === 'body' && keys[1] === 'scenario' && keys.length > 2;
+      issues.push(...duplicateKeyIssues(raw.toString('utf8'), ['body']).map((i) => (inScenario(i.pathKeys) ? issueAt(i.pathKeys.slice(2), i.message) : i)));
     }
     next(issues.length > 0 ? new HttpError(400, 'invalid request', issues) : undefined);
   });
 
   app.get('/api/scenarios', async (_req, res) => {
-    res.json({ scenarios: await listScenarios(options.scenariosDir) });
+    const answer: ScenarioListResponse = { scenarios: await listScenarios(options.scenariosDir) };
+    res.json(answer);
   });
 
   app.get('/api/scenarios/:id', async (req, res) => {
@@ -189,62 +199,61 @@ export function createServer(given: ServerOptions): FlyclampServer {
     if (!result.ok) throw failed(result.failure);
     const { problems } = soundVariants(result.report.variants);
     if (problems.length > 0) throw failed(problems.join('; '));
-    res.json({ ...result, warnings });
+    const answer: SimulateResponse = { ...result, warnings };
+    res.json(answer);
   });
 
   app.post('/api/design', async (req, res) => {
-    const { scenario, warnings } = readScenarioBody(req.body, ['scenario', 'columns']);
+    const { scenario, warnings } = readScenarioBody(designRequestSchema, req.body);
     const capMs = 6 * runTimeCapMs; // a design verifies several corners of the full model and its adjustments
     refuseOverBudget(checkWorkBudget(scenario, designVariantRuns(scenario), capMs / 1000, capHint));
     const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, capMs }, { signal })) as DesignTaskResult;
     if (!result.ok) throw failed(result.failure, 'design');
     const notFinite = nonFinitePaths(result.design);
     if (notFinite.length > 0) throw failed(`the design has no finite value for ${notFinite.join(', ')}`, 'design');
-    res.json({ ...result, warnings });
+    const answer: DesignResponse = { ...result, warnings };
+    res.json(answer);
   });
 
   app.post('/api/sweep', async (req, res) => {
-    const body = req.body as Record<string, unknown>;
-    const { scenario } = readScenarioBody(body, ['scenario', 'vary', 'corners', 'samples', 'tolerance', 'seed']);
+    const body = readRequest(sweepRequestSchema, req.body);
+    const scenario = body.scenario;
     const base = scenarioToJson(scenario);
     let chosen: ReturnType<typeof choosePoints>;
     try {
-      const strings = (v: unknown, name: string): string[] => {
-        if (v === undefined) return [];
-        if (Array.isArray(v) && v.every((x) => typeof x === 'string')) return v as string[];
-        throw new StudySpecError(`--${name}: expected a list of texts, found ${describeBrief(v)}`);
-      };
       chosen = choosePoints({
-        vary: strings(body.vary, 'vary'), corners: body.corners === true, tolerance: strings(body.tolerance, 'tolerance'),
-        seed: (body.seed as number | string | undefined) ?? 1,
-        ...(body.samples !== undefined ? { samples: body.samples as number } : {}),
+        vary: body.vary ?? [], corners: body.corners === true, tolerance: body.tolerance ?? [],
+        seed: body.seed ?? 1,
+        ...(body.samples !== undefined ? { samples: body.samples } : {}),
       }, (path) => getNumberAt(base, path), MAX_SWEEP_POINTS);
     } catch (error) {
       if (!(error instanceof StudySpecError)) throw error;
-      const flag = /^--(\w+)/.exec(error.message)?.[1] ?? 'vary';
-      throw new HttpError(400, 'invalid request', [{ path: `body.${flag}`, message: error.message.replace(/^--\w+:?\s*/, '') }]);
+      throw new HttpError(400, 'invalid request', [issueAt(['body', error.flag], error.detail)]);
     }
     const capMs = 6 * runTimeCapMs;
-    checkStudyBudget(base, chosen.points, body.samples !== undefined ? 'body.samples' : 'body.vary', capMs, runTimeCapMs, maxConcurrentRuns);
+    checkStudyBudget(base, chosen.points, body.samples !== undefined ? 'samples' : 'vary', capMs, runTimeCapMs, maxConcurrentRuns);
     // The study's points stop at its cap and the finished ones are answered: a sweep that runs out
     // of time still returns its work.
     const study = await admitted(res, capMs, (signal) => runStudy(base, chosen.points, { pool: currentStudyPool(), signal, deadlineMs: Date.now() + capMs, taskCapMs: runTimeCapMs }));
     const points = study.points;
     const derated = scenario.switch.voltageRating * drainDerating(scenario);
-    res.json({
+    const answer: SweepResponse = {
       kind: chosen.kind, voltageRating: scenario.switch.voltageRating, deratedLimit: derated, points,
       worst: worstPerVariant(points),
       ...(chosen.kind === 'monte-carlo' ? { monteCarlo: peakDistribution(points, derated) } : {}),
       pointsRequested: chosen.points.length,
       ...(study.interrupted ? { interrupted: `the sweep reached its time cap of ${capMs / 1000} s: ${points.length} of ${chosen.points.length} points finished` } : {}),
-    });
+    };
+    res.json(answer);
   });
 
   // A scope capture: read and measured (/api/capture), or the model fitted to it (/api/fit).
   const captureRoute = (fit: boolean) => async (req: Request, res: Response): Promise<void> => {
-    const body = req.body as Record<string, unknown>;
-    const { scenario, warnings } = fit ? readScenarioBody(body, ['scenario', 'capture', 'column']) : { scenario: undefined, warnings: [] };
-    const task = readCaptureBody(body, fit);
+    const fitRequest = fit ? readRequest(fitRequestSchema, req.body) : undefined;
+    const request: CaptureRequest | FitRequest = fitRequest ?? readRequest(captureRequestSchema, req.body);
+    const scenario = fitRequest?.scenario;
+    const warnings = scenario ? scenarioWarnings(scenario) : [];
+    const task = captureTask(request);
     const capMs = 6 * runTimeCapMs; // up to MAX_FIT_SIMULATIONS settled runs, one after another
     if (scenario) {
       // The fit simulates the bare variant, or the clamp one when the board has its clamp. Each
@@ -257,17 +266,18 @@ export function createServer(given: ServerOptions): FlyclampServer {
     }
     const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'capture', ...task, ...(scenario ? { scenario } : {}), capMs }, { signal })) as CaptureTaskResult;
     if (!result.ok) {
-      if (result.kind === 'field') throw new HttpError(400, 'invalid request', [{ path: result.field, message: result.failure }]);
+      if (result.kind === 'field') throw new HttpError(400, 'invalid request', [issueAt(['body', result.field === 'body.capture' ? 'capture' : 'column'], result.failure)]);
       if (result.kind === 'ring') throw new HttpError(422, `no ring can be measured in the capture: ${result.failure}`);
       throw failed(result.failure, 'fit');
     }
     const { fit: fitted, ok: _ok, ...view } = result;
-    if (!fit) { res.json({ ok: true, ...view }); return; }
+    if (!fit) { const answer: CaptureResponse = { ok: true, ...view }; res.json(answer); return; }
     if (!fitted) throw failed('the fit gave no result', 'fit');
     const { simulatedDrain, variant, offset, ...json } = fitted;
     const notFinite = nonFinitePaths(json);
     if (notFinite.length > 0) throw failed(`the fit has no finite value for ${notFinite.join(', ')}`, 'fit');
-    res.json({ ...json, variant, offset, capture: view.capture, simulatedDrain, columnName: view.columnName, midpointVolts: view.midpointVolts, warnings });
+    const answer: FitResponse = { ...json, variant, offset, capture: view.capture, simulatedDrain, columnName: view.columnName, midpointVolts: view.midpointVolts, warnings };
+    res.json(answer);
   };
   app.post('/api/capture', captureRoute(false));
   app.post('/api/fit', captureRoute(true));
@@ -283,12 +293,13 @@ export function createServer(given: ServerOptions): FlyclampServer {
 
   app.use((error: unknown, _req: Request, res: Response, _next: NextFunction) => {
     if (error instanceof HttpError) {
-      res.status(error.status).json({ error: error.message, ...(error.issues ? { issues: error.issues } : {}) });
+      const answer: ErrorResponse = { error: error.message, ...(error.issues ? { issues: error.issues } : {}) };
+      res.status(error.status).json(answer);
       return;
     }
     const e = error as { status?: number; type?: string; message?: string };
     if (e.type === 'entity.too.large') { res.status(413).json({ error: 'request body too large' }); return; }
-    if (e.type === 'entity.parse.failed') { res.status(400).json({ error: 'request body is not valid JSON', issues: [{ path: 'body', message: 'expected JSON, found a syntax error' }] }); return; }
+    if (e.type === 'entity.parse.failed') { res.status(400).json({ error: 'request body is not valid JSON', issues: [issueAt(['body'], 'expected JSON, found a syntax error')] }); return; }
     if (typeof e.status === 'number' && e.status >= 400 && e.status < 500) { res.status(e.status).json({ error: e.message ?? 'bad request' }); return; }
     process.stderr.write(`flyclamp serve: internal error: ${e.message ?? String(error)}\n`);
     res.status(500).json({ error: 'internal error in the simulator; the server log has the details' });
@@ -301,13 +312,13 @@ const capHint = (): string => 'run it from the command line, whose budget --max-
 
 /** Over the recorded-sample budget: 413 (too large a request); over the time estimate: 422. */
 function refuseOverBudget(refusals: BudgetRefusal[]): void {
-  const samples = refusals.filter((r) => r.kind === 'recorded-samples').map(({ path, message }) => ({ path, message }));
+  const samples = refusals.filter((r) => r.kind === 'recorded-samples').map(({ path, message }) => issueAtField(path, message));
   if (samples.length > 0) throw new HttpError(413, 'the request is larger than the server runs', samples);
-  if (refusals.length > 0) throw new HttpError(422, 'the request would take longer than the server allows', refusals.map(({ path, message }) => ({ path, message })));
+  if (refusals.length > 0) throw new HttpError(422, 'the request would take longer than the server allows', refusals.map(({ path, message }) => issueAtField(path, message)));
 }
 
 /** Each point within a run's budget, and the study as a whole within its recorded samples and its cap. */
-function checkStudyBudget(base: Record<string, unknown>, points: ReadonlyArray<Record<string, number>>, field: string, studyCapMs: number, runCapMs: number, workers: number): void {
+function checkStudyBudget(base: Record<string, unknown>, points: ReadonlyArray<Record<string, number>>, field: StudyFlag, studyCapMs: number, runCapMs: number, workers: number): void {
   let samples = 0, seconds = 0;
   for (const [index, values] of points.entries()) {
     const at = validateScenario(scenarioAtPoint(base as ScenarioJson, values));
@@ -323,100 +334,54 @@ function checkStudyBudget(base: Record<string, unknown>, points: ReadonlyArray<R
     seconds += estimate.estimatedSeconds;
   }
   if (samples > MAX_STUDY_RECORDED_SAMPLES) {
-    throw new HttpError(413, 'the request is larger than the server runs', [{ path: field, message: `expected a study of at most ${MAX_STUDY_RECORDED_SAMPLES} recorded samples in all (points × variants × recorded cycles × samples per cycle), found ${samples}: fewer points, or fewer recorded cycles (at most ${MAX_RECORDED_SAMPLES} per variant)` }]);
+    throw new HttpError(413, 'the request is larger than the server runs', [issueAt(['body', field], `expected a study of at most ${MAX_STUDY_RECORDED_SAMPLES} recorded samples in all (points × variants × recorded cycles × samples per cycle), found ${samples}: fewer points, or fewer recorded cycles (at most ${MAX_RECORDED_SAMPLES} per variant)`)]);
   }
   if (seconds / workers > studyCapMs / 1000) {
-    throw new HttpError(422, 'the request would take longer than the server allows', [{ path: field, message: `expected a study that runs within its cap of ${studyCapMs / 1000} s, found an estimated ${Math.round(seconds / workers)} s on ${workers} worker(s): fewer points` }]);
+    throw new HttpError(422, 'the request would take longer than the server allows', [issueAt(['body', field], `expected a study that runs within its cap of ${studyCapMs / 1000} s, found an estimated ${Math.round(seconds / workers)} s on ${workers} worker(s): fewer points`)]);
   }
 }
 
-/** The issues of a body whose `scenario` is a scenario object; `allowed` are its known fields. */
-function inspectScenarioBody(body: unknown, allowed: readonly string[]): { validated: ValidationResult; issues: ValidationIssue[] } {
-  if (typeof body !== 'object' || body === null || Array.isArray(body)) {
-    throw new HttpError(400, 'invalid request', [{ path: 'body', message: `expected a JSON object with a "scenario" field, found ${Array.isArray(body) ? 'a list' : typeof body}` }]);
-  }
-  const issues: ValidationIssue[] = Object.keys(body).filter((k) => !allowed.includes(k))
-    .map((k) => ({ path: `body.${k}`, message: `unknown field (expected ${allowed.join(', ')})` }));
-  const validated = validateScenario((body as Record<string, unknown>).scenario);
-  if (!validated.ok) issues.push(...validated.issues);
-  return { validated, issues };
+/** A request body checked against its route's schema; a bad one is a 400 with every issue. */
+function readRequest<T>(schema: z.ZodType<T>, body: unknown): T {
+  const parsed = parseRequest(schema, body);
+  if (!parsed.ok) throw new HttpError(400, 'invalid request', parsed.issues);
+  return parsed.request;
 }
 
-function readScenarioBody(body: unknown, allowed: readonly string[]): { scenario: Scenario; warnings: ValidationIssue[] } {
-  const { validated, issues } = inspectScenarioBody(body, allowed);
-  if (issues.length > 0 || !validated.ok) throw new HttpError(400, 'invalid request', issues);
-  return { scenario: validated.scenario, warnings: validated.warnings };
+function readScenarioBody(schema: typeof designRequestSchema, body: unknown): { scenario: Scenario; warnings: ValidationIssue[] } {
+  const { scenario } = readRequest(schema, body);
+  return { scenario, warnings: scenarioWarnings(scenario) };
 }
 
 function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & { warnings: ValidationIssue[] } {
-  const { validated, issues } = inspectScenarioBody(body, ['scenario', 'variants', 'window', 'columns']);
-  const { variants, window, columns } = body as Record<string, unknown>;
-  let chosen: VariantName[] | undefined;
-  if (variants !== undefined) {
-    if (!Array.isArray(variants) || variants.length === 0 || !variants.every((v) => (VARIANT_NAMES as readonly unknown[]).includes(v))) {
-      issues.push({ path: 'body.variants', message: `expected a non-empty list of ${VARIANT_NAMES.join(', ')}, found ${describeBrief(variants)}` });
-    } else if (new Set(variants).size !== variants.length) {
-      issues.push({ path: 'body.variants', message: `expected each variant at most once, found ${describeBrief(variants)}` });
-    } else chosen = variants as VariantName[];
-  }
-  let win: SimulateTask['window'];
-  if (window !== undefined) {
-    const w = window as { startSeconds?: unknown; endSeconds?: unknown };
-    if (typeof w !== 'object' || w === null || typeof w.startSeconds !== 'number' || typeof w.endSeconds !== 'number' || !(w.endSeconds > w.startSeconds)) {
-      issues.push({ path: 'body.window', message: `expected { startSeconds, endSeconds } with end after start, found ${describeBrief(window)}` });
-    } else win = { startSeconds: w.startSeconds, endSeconds: w.endSeconds };
-  }
-  if (columns !== undefined && !(Number.isInteger(columns) && (columns as number) >= 10 && (columns as number) <= MAX_COLUMNS)) {
-    issues.push({ path: 'body.columns', message: `expected a whole number from 10 to ${MAX_COLUMNS}, found ${describeBrief(columns)}` });
-  }
-  if (issues.length > 0 || !validated.ok) throw new HttpError(400, 'invalid request', issues);
-  const scenario = validated.scenario;
+  const request = readRequest(simulateRequestSchema, body);
+  const scenario = request.scenario;
   const supported = availableVariants(scenario);
-  const wanted = chosen ?? supported;
+  const wanted = request.variants ?? supported;
   const missing = wanted.filter((v) => !supported.includes(v));
   if (missing.length > 0) {
-    throw new HttpError(400, 'invalid request', [{ path: 'body.variants', message: `expected variants this scenario supports (${supported.join(', ')}), found ${missing.join(', ')}` }]);
+    throw new HttpError(400, 'invalid request', [issueAt(['body', 'variants'], `expected variants this scenario supports (${supported.join(', ')}), found ${missing.join(', ')}`)]);
   }
   refuseOverBudget(checkWorkBudget(scenario, wanted, runTimeCapMs / 1000, capHint));
   return {
-    scenario, variants: wanted, columns: (columns as number | undefined) ?? 1500, warnings: validated.warnings,
+    scenario, variants: wanted, columns: request.columns ?? 1500, warnings: scenarioWarnings(scenario),
     capMs: runTimeCapMs,
-    ...(win ? { window: win } : {}),
+    ...(request.window ? { window: request.window } : {}),
   };
 }
 
-/** `capture` (CSV text) and `column` of a capture request, bounded before any line is read. */
-function readCaptureBody(body: unknown, fit: boolean): { captureText: string; column?: string; maxSamples: number; columns: number } {
-  if (typeof body !== 'object' || body === null || Array.isArray(body)) {
-    throw new HttpError(400, 'invalid request', [{ path: 'body', message: `expected a JSON object with a "capture" field, found ${Array.isArray(body) ? 'a list' : typeof body}` }]);
+/** The capture task of a capture or fit request, its lines counted before any is read. */
+function captureTask(request: CaptureRequest | FitRequest): { captureText: string; column?: string; maxSamples: number; columns: number } {
+  const capture = request.capture;
+  // One sample per line: counted before the text goes to a worker.
+  let lines = 1;
+  for (let at = capture.indexOf('\n'); at >= 0; at = capture.indexOf('\n', at + 1)) lines++;
+  if (lines > MAX_HTTP_CAPTURE_SAMPLES + MAX_CAPTURE_HEADER_LINES) {
+    throw new HttpError(413, 'the request is larger than the server runs', [issueAt(['body', 'capture'], `expected at most ${MAX_HTTP_CAPTURE_SAMPLES} samples (lines), found ${lines} lines: decimate on the scope, or use flyclamp fit on the command line`)]);
   }
-  const { capture, column, ...others } = body as Record<string, unknown>;
-  const issues: ValidationIssue[] = fit ? [] : Object.keys(others)
-    .map((k) => ({ path: `body.${k}`, message: 'unknown field (expected capture, column)' }));
-  if (typeof capture !== 'string') {
-    issues.push({ path: 'body.capture', message: `expected the capture's CSV text (a header block, then rows of time and voltage), found ${capture === undefined ? 'nothing' : describeBrief(capture)}` });
-  } else {
-    // One sample per line: counted before the text goes to a worker.
-    let lines = 1;
-    for (let at = capture.indexOf('\n'); at >= 0; at = capture.indexOf('\n', at + 1)) lines++;
-    if (lines > MAX_HTTP_CAPTURE_SAMPLES + MAX_CAPTURE_HEADER_LINES) {
-      throw new HttpError(413, 'the request is larger than the server runs', [{ path: 'body.capture', message: `expected at most ${MAX_HTTP_CAPTURE_SAMPLES} samples (lines), found ${lines} lines: decimate on the scope, or use flyclamp fit on the command line` }]);
-    }
-  }
-  let columnText: string | undefined;
-  if (column !== undefined && column !== null && column !== '') {
-    if (typeof column === 'string' && column.length <= 64) columnText = column;
-    else if (Number.isInteger(column) && (column as number) >= 1 && (column as number) <= 64) columnText = String(column);
-    else issues.push({ path: 'body.column', message: `expected the drain column's name or its position (1–64, the time column is 1), found ${describeBrief(column)}` });
-  }
-  if (issues.length > 0) throw new HttpError(400, 'invalid request', issues);
-  return { captureText: capture as string, ...(columnText !== undefined ? { column: columnText } : {}), maxSamples: MAX_HTTP_CAPTURE_SAMPLES, columns: CAPTURE_COLUMNS };
-}
-
-/** A value as found, short: the limits middleware has bounded its nesting, this bounds its length. */
-function describeBrief(value: unknown): string {
-  const text = JSON.stringify(value) ?? String(value);
-  return text.length > 80 ? `${text.slice(0, 77)}...` : text;
+  const column = request.column;
+  const columnText = column === undefined || column === null || column === '' ? undefined : String(column);
+  return { captureText: capture, ...(columnText !== undefined ? { column: columnText } : {}), maxSamples: MAX_HTTP_CAPTURE_SAMPLES, columns: CAPTURE_COLUMNS };
 }
 
 async function listScenarios(dir: string): Promise<Array<{ id: string; name: string }>> {

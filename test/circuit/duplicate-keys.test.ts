@@ -15,7 +15,7 @@ describe('duplicateKeyIssues(text)', () => {
     expect(duplicateKeyIssues('{"\\u0061": 1, "a": 2}').map((i) => i.path)).toEqual(['a']);
   });
 
-  it('puts rootPath before the paths (body.… for an HTTP body)', () => {
-    expect(duplicateKeyIssues('{"scenario": {"x": 1, "x": 2}}', 'body').map((i) => i.path)).toEqual(['body.scenario.x']);
+  it('puts rootKeys before the paths (body.… for an HTTP body)', () => {
+    expect(duplicateKeyIssues('{"scenario": {"x": 1, "x": 2}}', ['body']).map((i) => i.path)).toEqual(['body.scenario.x']);
   });
 });

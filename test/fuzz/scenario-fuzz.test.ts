@@ -100,7 +100,7 @@ const textOf = fc.oneof({ arbitrary: fc.constant('plain'), weight: 6 }, fc.const
 describe('fuzz: mutated demo scenarios through the validator', () => {
   it(`never throws, and every issue names a field with what was expected (${VALIDATOR_RUNS} runs)`, () => {
     fc.assert(fc.property(mutated, (doc) => {
-      const issues = checkInputLimits(doc, '');
+      const issues = checkInputLimits(doc, []);
       const result = issues.length > 0 ? { ok: false as const, issues } : validateScenario(doc);
       if (!result.ok) {
         expect(result.issues.length).toBeGreaterThan(0);

@@ -100,7 +100,7 @@ describe('POST /api/capture and /api/fit', () => {
     const res = await postTo(s.base, '/api/capture', { capture: 'Time,CH1\n0,1\n1e-9,2\n2e-9,oops\n' });
     const body = await res.json() as Issues;
     expect(res.status).toBe(400);
-    expect(body.issues).toEqual([{ path: 'body.capture', message: 'line 4: expected a number in column "CH1", found "oops"' }]);
+    expect(body.issues).toEqual([{ path: 'body.capture', pathKeys: ['body', 'capture'], message: 'line 4: expected a number in column "CH1", found "oops"' }]);
     const backwards = await postTo(s.base, '/api/fit', { scenario: scenarioToJson(board('300n', '495p', 0.5)), capture: 'Time,CH1\n0,1\n2e-9,2\n1e-9,3\n' });
     expect(backwards.status).toBe(400);
     expect(((await backwards.json()) as Issues).issues?.[0]?.message).toMatch(/^line 4 \(data row 3\): time does not increase .*expected strictly increasing time$/);
@@ -113,7 +113,7 @@ describe('POST /api/capture and /api/fit', () => {
     expect(issue?.path).toBe('body.column');
     expect(issue?.message).toBe('expected one of CH1, CH2 (or a column number 2–3), found "CH9"');
     const missing = await postTo(s.base, '/api/capture', { capture: csv });
-    expect(((await missing.json()) as Issues).issues?.[0]).toMatchObject({ path: 'body.column', message: expect.stringContaining('name the drain with "column"') });
+    expect(((await missing.json()) as Issues).issues?.[0]).toMatchObject({ path: 'body.column', pathKeys: ['body', 'column'], message: expect.stringContaining('name the drain with "column"') });
     const notText = await postTo(s.base, '/api/capture', { capture: [1, 2, 3] });
     expect(notText.status).toBe(400);
     expect(((await notText.json()) as Issues).issues?.[0]?.path).toBe('body.capture');

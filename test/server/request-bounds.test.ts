@@ -120,7 +120,7 @@ describe('HTTP API: requests bounded before work starts', () => {
     const scenario = await demo('bias-48v');
     const repeated = await postTo(s.base, '/api/simulate', { scenario, variants: ['bare', 'clamp', 'bare'] });
     expect(repeated.status).toBe(400);
-    expect((await issuesOf(repeated))[0]).toEqual({ path: 'body.variants', message: expect.stringMatching(/each variant at most once/) });
+    expect((await issuesOf(repeated))[0]).toEqual({ path: 'body.variants', pathKeys: ['body', 'variants'], message: expect.stringMatching(/each variant at most once/) });
     const thousand = await postTo(s.base, '/api/simulate', { scenario, variants: Array(1000).fill('bare') });
     expect(thousand.status).toBe(400);
     expect((await issuesOf(thousand))[0]!.path).toBe('body.variants');
@@ -134,7 +134,7 @@ describe('HTTP API: requests bounded before work starts', () => {
     // Generous: the old pattern took 100 s for this; the check is a linear scan.
     expect(performance.now() - started).toBeLessThan(1000);
     expect(res.status).toBe(400);
-    expect((await issuesOf(res))[0]).toEqual({ path: 'switch.frequency', message: expect.stringMatching(/at most 200 characters/) });
+    expect((await issuesOf(res))[0]).toEqual({ path: 'switch.frequency', pathKeys: ['switch', 'frequency'], message: expect.stringMatching(/at most 200 characters/) });
   });
 
   it(`answers 413 naming the field for more than ${MAX_RECORDED_SAMPLES} recorded samples per variant`, async () => {
@@ -149,7 +149,7 @@ describe('HTTP API: requests bounded before work starts', () => {
     const res = await postTo(s.base, '/api/simulate', { scenario, variants: ['bare'] });
     expect(res.status).toBe(413);
     const perCycle = Math.ceil((24 * 1e-4) / (2 * Math.PI * Math.sqrt(1.2e-6 * 180e-12)));
-    expect((await issuesOf(res))[0]).toEqual({ path: 'simulation.recordedCycles', message: expect.stringContaining(`at most 400000 recorded samples per variant (simulation.recordedCycles × samples per cycle), found 20 × ${perCycle} = ${20 * perCycle}`) });
+    expect((await issuesOf(res))[0]).toEqual({ path: 'simulation.recordedCycles', pathKeys: ['simulation', 'recordedCycles'], message: expect.stringContaining(`at most 400000 recorded samples per variant (simulation.recordedCycles × samples per cycle), found 20 × ${perCycle} = ${20 * perCycle}`) });
   });
 
   it('answers 422 naming the value that makes a run too expensive for the cap (a 150 Hz switch against a 10 MHz ring)', async () => {
@@ -168,7 +168,7 @@ describe('HTTP API: requests bounded before work starts', () => {
     scenario.simulation = { recordedCycles: 20, samplesPerCycle: 20_000 };
     const res = await postTo(s.base, '/api/sweep', { scenario, vary: ['transformer.leakageInductance=-10%..+10%:2', 'clamp.resistance=-10%..+10%:100'] });
     expect(res.status).toBe(413);
-    expect((await issuesOf(res))[0]).toEqual({ path: 'body.vary', message: expect.stringMatching(/recorded samples in all/) });
+    expect((await issuesOf(res))[0]).toEqual({ path: 'body.vary', pathKeys: ['body', 'vary'], message: expect.stringMatching(/recorded samples in all/) });
   });
 
   it('answers a grid of 10⁹ points with 400 at once, without making the grid', async () => {
@@ -177,7 +177,7 @@ describe('HTTP API: requests bounded before work starts', () => {
       vary: ['transformer.leakageInductance=-10%..+10%:1000', 'clamp.resistance=-10%..+10%:1000', 'clamp.capacitance=-10%..+10%:1000'],
     });
     expect(res.status).toBe(400);
-    expect((await issuesOf(res))[0]).toEqual({ path: 'body.vary', message: expect.stringMatching(/at most 200 points, found 1000000000/) });
+    expect((await issuesOf(res))[0]).toEqual({ path: 'body.vary', pathKeys: ['body', 'vary'], message: expect.stringMatching(/at most 200 points, found 1000000000/) });
   });
 });
 
