@@ -410,7 +410,7 @@ describe('the form against the README', () => {
         };
       }, f.path);
       if (f.unit !== undefined && f.path !== 'name') {
-        const expected = f.unit === '—' || f.unit === 'Np/Ns' ? '—' : f.unit;
+        const expected = f.unit === '—' ? '—' : f.unit;
         expect(shown.unit, f.path).toBe(expected);
         // The label speaks the unit, since the visible one after the input is not part of it.
         if (SPOKEN[f.unit]) expect(shown.label, f.path).toContain(`in ${SPOKEN[f.unit]}`);

@@ -1,62 +1,23 @@
 // The page's client for the flyclamp server: typed answers (the server's own types), one error
 // shape, and cancellation of requests that a newer one replaces.
 
-import type { SimulateTaskResult } from '../../src/server/simulate-task.js';
-import type { DesignTaskResult } from '../../src/server/design-task.js';
-import type { SimulationReport } from '../../src/analysis/simulation-report.js';
-import type { ReducedTrace } from '../../src/analysis/display-reduction.js';
+import type {
+  CaptureResponse, DesignResponse, ErrorResponse, FitResponse, ReducedTrace, ScenarioListResponse, SimulateResponse, StudyPoint,
+  SweepResponse, ValidationIssue,
+} from '../../src/contract/api.js';
 import type { VariantName } from '../../src/circuit/scenario.js';
 
-export type { VariantName, ReducedTrace };
+export type { VariantName, ReducedTrace, StudyPoint };
 
-export interface ApiIssue { path: string; message: string }
-export interface ErrorAnswer { error?: string; issues?: ApiIssue[] }
-
-type Ok<T> = Extract<T, { ok: true }>;
-export type SimulateAnswer = Ok<SimulateTaskResult> & { warnings: ApiIssue[] };
-export type DesignAnswer = Ok<DesignTaskResult> & { warnings: ApiIssue[] };
-/** As src/server/fit-task.ts's CaptureView (that module is node-only). */
-export interface CaptureAnswer {
-  ok: true;
-  capture: ReducedTrace;
-  columnName: string;
-  voltageColumns: string[];
-  captureSamples: number;
-  midpointVolts: number;
-  ring: { frequency: number; decay: number } | { problem: string };
-}
-/** As src/study/study-summary.ts's (its module imports node-only ones). */
-export interface WorstCase { index: number; values: Record<string, number>; peakDrainVoltage: number; marginToRating: number; marginToDeratedLimit: number }
-export interface PeakDistribution { samples: number; fractionOverDeratedLimit: number; percentiles: { p5: number; p50: number; p95: number; p99: number; max: number } }
-/** As src/study/run-study.ts's StudyPoint (that module is node-only). */
-export interface StudyPoint {
-  index: number;
-  values: Record<string, number>;
-  variants?: SimulationReport['variants'];
-  failure?: string;
-}
-/** As src/capture/fit-json.ts's FitJson (its module imports node-only ones), plus the route's fields. */
-export interface FitAnswer {
-  fitted: Record<string, number>;
-  uncertainty: Record<string, number>;
-  ringFrequency: number;
-  ringDecay: number;
-  residual: number;
-  captureSamples: number;
-  variant: VariantName; offset: number; capture: ReducedTrace; simulatedDrain: ReducedTrace;
-  columnName: string; midpointVolts: number; warnings: ApiIssue[];
-}
-export interface SweepAnswer {
-  kind: 'grid' | 'corners' | 'monte-carlo';
-  voltageRating: number;
-  deratedLimit: number;
-  points: StudyPoint[];
-  worst: Partial<Record<VariantName, WorstCase>>;
-  monteCarlo?: Partial<Record<VariantName, PeakDistribution>>;
-  pointsRequested: number;
-  interrupted?: string;
-}
-export interface ScenarioListAnswer { scenarios: Array<{ id: string; name: string }> }
+// The server's answers, as the contract states them (src/contract/api.ts).
+export type ApiIssue = ValidationIssue;
+export type ErrorAnswer = Partial<ErrorResponse>;
+export type SimulateAnswer = SimulateResponse;
+export type DesignAnswer = DesignResponse;
+export type CaptureAnswer = CaptureResponse;
+export type FitAnswer = FitResponse;
+export type SweepAnswer = SweepResponse;
+export type ScenarioListAnswer = ScenarioListResponse;
 
 /** A scenario as it travels: the file's JSON, values as typed. */
 export type RawScenario = Record<string, unknown>;

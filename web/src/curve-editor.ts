@@ -5,11 +5,12 @@
 import { el } from './dom.js';
 import { readSi } from './format.js';
 import { UNIT_WORDS } from './fields.js';
+import { MAX_CURVE_POINTS, MIN_CURVE_POINTS } from '../../src/contract/field-metadata.js';
 import { purge, react, type PlotSpec } from './plotly.js';
 
-/** The server's limits for a curve (src/circuit/validate-scenario.ts, MAX_CURVE_POINTS). */
-const MIN_POINTS = 2;
-const MAX_POINTS = 64;
+/** The server's limits for a curve. */
+const MIN_POINTS = MIN_CURVE_POINTS;
+const MAX_POINTS = MAX_CURVE_POINTS;
 /** Samples per segment for the plotted line; the line is exact at any count, this keeps hover useful. */
 const SAMPLES_PER_SEGMENT = 12;
 

@@ -104,7 +104,7 @@ function curveContext() {
 function makeField(field: FormField): HTMLElement {
   const wrap = el('div', { class: 'field', dataset: { field: field.path, ...(field.when ? { when: field.when } : {}) } });
   const id = fieldId(field.path);
-  const label = el('label', { for: id, text: field.label });
+  const label = el('label', { for: id, text: field.label, title: field.help });
   if (!field.text && !field.choices) label.append(spokenUnit(field.unit));
   if (field.fallback !== undefined || field.absent !== undefined) label.append(' ', el('span', { class: 'optional', text: 'optional' }));
   const entry = el('div', { class: field.text ? 'entry entry-text' : 'entry' });

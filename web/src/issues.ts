@@ -17,9 +17,6 @@ export function showMessages(area: HTMLElement, lines: readonly Line[], tone: 'e
 
 export function showGeneral(lines: readonly Line[], tone: 'error' | 'note' = 'error'): void { showMessages($('#general-error'), lines, tone); }
 
-/** The switch-control fields, each shown under its control only. */
-const CONTROL_FIELDS = ['switch.peakCurrent', 'switch.maxDutyCycle', 'switch.peakCurrentLimit', 'switch.dutyCycle'];
-
 /**
  * Puts each issue beside the input its path names; the rest, or a summary line, go to `showRest`
  * (the general area for a simulation, a panel's own area for a design or a study). With `focus`,
@@ -34,7 +31,7 @@ export function showIssues(issues: readonly ApiIssue[], showRest: (lines: Line[]
     let path = issue.path;
     // "Exactly one of peak current and duty cycle" is filed under switch.peakCurrent even when
     // fixed duty is chosen and that input is hidden; show it where the engineer is looking.
-    const when = CONTROL_FIELDS.includes(path) ? formField(path)?.when : undefined;
+    const when = formField(path)?.when;
     if (when && when !== kind) path = kind === 'fixed-duty' ? 'switch.dutyCycle' : 'switch.peakCurrent';
     const curve = curveEditor().target(path);
     const box = curve ? curve.box : form.querySelector<HTMLElement>(`.field-error[data-for="${CSS.escape(path)}"]`);
