@@ -18,7 +18,10 @@ export function presentVariants(result: SimulateAnswer): VariantName[] {
   return VARIANTS.filter((v) => result.traces[v] && result.report.variants[v]);
 }
 
-/** The highest displayed sample of each variant: where its peak marker goes. */
+/**
+ * Each variant's peak: at the time of its highest displayed sample, at the value the table gives
+ * (the report's, from the full resolution and the located events).
+ */
 function peakMarkers(result: SimulateAnswer, variants: readonly VariantName[]): PlotSpec[] {
   return variants.map((v) => {
     const { timeSeconds, values } = result.traces[v]!.drainVoltage;
@@ -26,7 +29,7 @@ function peakMarkers(result: SimulateAnswer, variants: readonly VariantName[]): 
     for (let i = 1; i < values.length; i++) if (values[i]! > values[k]!) k = i;
     return {
       type: 'scatter', mode: 'markers', meta: `peak:${v}`, name: `${v} peak`, showlegend: false,
-      x: [timeSeconds[k]! * US], y: [values[k]!],
+      x: [timeSeconds[k]! * US], y: [result.report.variants[v]!.peakDrainVoltage],
       marker: { symbol: 'triangle-down', size: 11, color: COLOURS[v], line: { color: '#fffdf8', width: 1 } },
       hovertemplate: `peak %{y:.2f} V at %{x:.4f} µs<extra>${v}</extra>`,
     };

@@ -1,7 +1,7 @@
 // The scenario object and the form: filling the form from a file's JSON, reading it back for the
 // server (values as typed) or for a saved file (plain numbers as numbers), and reading numbers.
 
-import { ALL_FIELDS, GROUPS, formField, isField } from './fields.js';
+import { ALL_FIELDS, GROUPS, formField, isField, type ControlKind } from './fields.js';
 import { blockBox, blockOn, clearFieldErrors, controlKind, curveEditor, inputFor, setChoice, syncBlocks, syncControl } from './form.js';
 import { fmtNumber, fmtSi, readSi, SI_UNITS } from './format.js';
 import type { RawScenario } from './api.js';
@@ -71,16 +71,16 @@ const PLAIN_NUMBER = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
  * and names the field when it cannot); empty fields are left out so that the server applies its
  * default or says the field is required. For a file, plain numbers become numbers.
  */
-export function readForm(forFile = false): RawScenario {
+export function readForm(forFile = false, everything = false): RawScenario {
   const value = (text: string): string | number => (forFile ? (PLAIN_NUMBER.test(text.trim()) ? Number(text.trim()) : text.trim()) : text);
   const name = inputFor('name')!.value;
   const scenario: RawScenario = { name: forFile ? name.trim() : name };
   const kind = controlKind();
   for (const group of GROUPS) {
-    if (group.optionalBlock && !blockOn(group.key)) continue;
+    if (group.optionalBlock && !blockOn(group.key) && !everything) continue;
     const block: RawScenario = {};
     for (const field of group.fields.filter(isField)) {
-      if (field.when && field.when !== kind) continue;
+      if (field.when && field.when !== kind && !everything) continue;
       const key = field.path.split('.').slice(1);
       if (field.curve) {
         const read = curveEditor().read(value);
@@ -94,10 +94,28 @@ export function readForm(forFile = false): RawScenario {
       for (const k of key.slice(0, -1)) target = (target[k] ??= {}) as RawScenario;
       target[key[key.length - 1]!] = field.choices ? text : value(text);
     }
-    if (group.collapsible && Object.keys(block).length === 0) continue;
+    if ((group.collapsible || (everything && !blockOn(group.key) && group.optionalBlock)) && Object.keys(block).length === 0) continue;
     scenario[group.key] = block;
   }
   return scenario;
+}
+
+/**
+ * Everything the form holds, for a link: the fields as a file would have them, also those of a
+ * block switched off and of the other switch control (kept in the form, so kept in the link), with
+ * which blocks are off and which control is chosen.
+ */
+export function formSnapshot(): { scenario: RawScenario; off: string[]; control: ControlKind } {
+  const off = GROUPS.filter((g) => g.optionalBlock && !blockOn(g.key)).map((g) => g.key);
+  return { scenario: readForm(true, true), off, control: controlKind() };
+}
+
+/** Switches blocks off and chooses the control as a link says (after fillForm). */
+export function applyFormSwitches(off: readonly string[], control: ControlKind | undefined): void {
+  for (const key of off) if (GROUPS.some((g) => g.key === key && g.optionalBlock)) blockBox(key).checked = false;
+  if (control) document.querySelector<HTMLInputElement>(control === 'fixed-duty' ? '#control-duty' : '#control-peak')!.checked = true;
+  syncBlocks();
+  syncControl();
 }
 
 /** The SI unit the reader takes for a field ('' for ratios, counts and °C). */

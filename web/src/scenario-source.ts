@@ -3,9 +3,9 @@
 
 import { $, el } from './dom.js';
 import { getJson, type RawScenario } from './api.js';
-import { fillForm, isScenarioObject, readForm, unknownPaths, getPath } from './form-values.js';
+import { applyFormSwitches, fillForm, formSnapshot, getPath, isScenarioObject, readForm, unknownPaths } from './form-values.js';
 import { showGeneral } from './issues.js';
-import { applyChange, decodeFragment, difference, writeFragment } from './share-link.js';
+import { applyChange, decodeFragment, difference, writeFragment, type SharedState } from './share-link.js';
 import { cancelRuns, simulate } from './simulate.js';
 import { state } from './state.js';
 
@@ -33,7 +33,9 @@ export async function loadBundled(id: string, options: { run?: boolean; change?:
     throw error;
   }
   state.loaded = { id, raw };
-  const notes = fillForm(options.change ? applyChange(raw, options.change) : raw);
+  // A link's scenario may hold both controls' fields (the form keeps both); its switches say which.
+  const notes = options.change ? (fillForm(applyChange(raw, options.change)), []) : fillForm(raw);
+  if (options.change) applyFormSwitches(options.change.off, options.change.control);
   state.sourceLabel = id;
   state.fileBase = '';
   $('#scenario-source').textContent = `Bundled scenario ${id}.json${options.change ? ', with the changes the link carries' : ''} — edit freely; the file on the server is not changed.`;
@@ -42,7 +44,7 @@ export async function loadBundled(id: string, options: { run?: boolean; change?:
   const url = new URL(window.location.href);
   url.searchParams.set('scenario', id);
   history.replaceState(null, '', url);
-  if (!options.change) await writeFragment({ base: id, set: {}, unset: [] });
+  if (!options.change) await writeFragment({ base: id, set: {}, unset: [], off: [] });
   if (notes.length > 0) showGeneral(notes, 'note');
   if (options.run !== false) await simulate();
 }
@@ -59,8 +61,9 @@ export async function loadFile(file: File): Promise<void> {
   await openRaw(raw, file.name, `Opened from ${file.name}.`);
 }
 
-async function openRaw(raw: unknown, label: string, source: string): Promise<void> {
+async function openRaw(raw: unknown, label: string, source: string, change?: SharedState): Promise<void> {
   const notes = fillForm(raw);
+  if (change) applyFormSwitches(change.off, change.control);
   dropFileOption();
   select.prepend(el('option', { value: '', dataset: { file: '' }, text: `file: ${label}` }));
   select.value = '';
@@ -75,8 +78,8 @@ async function openRaw(raw: unknown, label: string, source: string): Promise<voi
   if (!isScenarioObject(raw)) { showGeneral(notes); return; }
   // Keys the format does not have (a misspelt field) are not in the form; the first run sends the
   // file as it is, so the server names each one with what it expected, as the command line does.
-  const unknown = unknownPaths(raw);
-  await simulate({ scenario: raw });
+  const unknown = change ? [] : unknownPaths(raw);
+  await simulate(change ? {} : { scenario: raw });
   if (unknown.length > 0) {
     const area = $('#general-error');
     const values = unknown.map((path) => `${path} = ${JSON.stringify(getPath(raw, path))}`).join('; ');
@@ -88,7 +91,9 @@ async function openRaw(raw: unknown, label: string, source: string): Promise<voi
 
 /** Puts the edited scenario into the address (only its change from the loaded scenario). */
 export async function updateShareLink(): Promise<void> {
-  await writeFragment(difference(state.loaded.id, state.loaded.raw, readForm(true)));
+  const { scenario, off, control } = formSnapshot();
+  // A scenario from a file is in no bundled list: its link carries all of it.
+  await writeFragment(difference(state.loaded.id, state.loaded.id ? state.loaded.raw : {}, scenario, off, control));
 }
 
 /** Restores the scenario a link's fragment holds; false when the address has none. */
@@ -101,7 +106,7 @@ export async function openSharedLink(known: ReadonlyArray<{ id: string }>): Prom
   if (!change) return false;
   if (change.base === '') {
     loading();
-    await openRaw(applyChange({}, change), 'shared link', 'Opened from a shared link (a scenario that was opened from a file).');
+    await openRaw(applyChange({}, change), 'shared link', 'Opened from a shared link (a scenario that was opened from a file).', change);
     return true;
   }
   if (!known.some((s) => s.id === change.base)) {

@@ -4,6 +4,7 @@
 
 import type { RawScenario } from './api.js';
 import { isScenarioObject } from './form-values.js';
+import type { ControlKind } from './fields.js';
 
 /** The fragment's prefix and format version. */
 const PREFIX = '#s1.';
@@ -13,8 +14,12 @@ export interface SharedState {
   base: string;
   /** Paths ("switch.drainCapacitance") set to a value: a number, a text, or a curve's points. */
   set: Record<string, unknown>;
-  /** Paths of the base that the edited scenario does not have (a block switched off, a field emptied). */
+  /** Paths of the base that the edited scenario does not have (a field emptied). */
   unset: string[];
+  /** Optional blocks switched off in the form (their values kept, as the form keeps them). */
+  off: string[];
+  /** The switch control chosen. */
+  control?: ControlKind;
 }
 
 /** Leaves of a scenario by dotted path; a list (a curve) is one leaf. */
@@ -28,13 +33,13 @@ function flatten(raw: RawScenario, prefix = '', out: Map<string, unknown> = new 
 }
 
 /** The change from `base` to `edited`; a value that reads the same (20 and "20") counts as unchanged. */
-export function difference(baseId: string, base: RawScenario, edited: RawScenario): SharedState {
+export function difference(baseId: string, base: RawScenario, edited: RawScenario, off: string[] = [], control?: ControlKind): SharedState {
   const from = flatten(base), to = flatten(edited);
   const same = (a: unknown, b: unknown): boolean => JSON.stringify(a) === JSON.stringify(b) || (typeof a !== 'object' && String(a) === String(b));
   const set: Record<string, unknown> = {};
   for (const [path, value] of to) if (!from.has(path) || !same(from.get(path), value)) set[path] = value;
   const unset = [...from.keys()].filter((path) => !to.has(path));
-  return { base: baseId, set, unset };
+  return { base: baseId, set, unset, off, ...(control ? { control } : {}) };
 }
 
 /** `base` with the change applied (a copy). */
@@ -77,7 +82,7 @@ function fromBase64Url(text: string): Uint8Array {
 }
 
 export async function encodeFragment(change: SharedState): Promise<string> {
-  const json = new TextEncoder().encode(JSON.stringify({ b: change.base, s: change.set, u: change.unset }));
+  const json = new TextEncoder().encode(JSON.stringify({ b: change.base, s: change.set, u: change.unset, o: change.off, ...(change.control ? { c: change.control } : {}) }));
   return `${PREFIX}${toBase64Url(await through(json, new CompressionStream('deflate-raw')))}`;
 }
 
@@ -90,16 +95,18 @@ export async function decodeFragment(hash: string): Promise<SharedState | undefi
   if (hash.length > MAX_FRAGMENT_LENGTH) throw new Error(`the link's scenario is longer than ${MAX_FRAGMENT_LENGTH} characters`);
   const json = new TextDecoder().decode(await through(fromBase64Url(hash.slice(PREFIX.length)), new DecompressionStream('deflate-raw')));
   const data = JSON.parse(json) as unknown;
-  if (!isScenarioObject(data) || typeof data.b !== 'string' || !isScenarioObject(data.s) || !Array.isArray(data.u) || !data.u.every((p) => typeof p === 'string')) {
+  const texts = (list: unknown): list is string[] => Array.isArray(list) && list.every((p) => typeof p === 'string');
+  if (!isScenarioObject(data) || typeof data.b !== 'string' || !isScenarioObject(data.s) || !texts(data.u) || !texts(data.o)) {
     throw new Error('the link does not hold a scenario change');
   }
-  return { base: data.b, set: data.s, unset: data.u as string[] };
+  const control = data.c === 'fixed-duty' || data.c === 'peak-current' ? data.c : undefined;
+  return { base: data.b, set: data.s, unset: data.u, off: data.o, ...(control ? { control } : {}) };
 }
 
 /** Writes the change into the address without a new history entry; no change, no fragment. */
 export async function writeFragment(change: SharedState): Promise<void> {
   const url = new URL(window.location.href);
-  const empty = Object.keys(change.set).length === 0 && change.unset.length === 0 && change.base !== '';
+  const empty = Object.keys(change.set).length === 0 && change.unset.length === 0 && change.off.length === 0 && change.base !== '';
   url.hash = empty ? '' : await encodeFragment(change);
   history.replaceState(null, '', url);
 }
