@@ -60,7 +60,6 @@ const siInput = (): z.ZodUnion<[z.ZodNumber, z.ZodString]> => z.union([z.number(
 function describeField(field: FieldMetadata): Record<string, unknown> {
   const meta: Record<string, unknown> = { title: field.label, description: field.help };
   if (field.unit !== '') meta.unit = field.unit;
-  if (field.defaultText !== undefined && field.presence === 'defaulted') meta.default = 'defaultValue' in field && typeof field.defaultValue === 'number' ? field.defaultValue : field.defaultText;
   return meta;
 }
 
@@ -71,12 +70,13 @@ function wrongNumberType(field: NumberFieldMetadata, input: unknown): string {
   return `expected ${parsed.ok ? numberExpectation(field) : parsed.expected}, found ${describeFound(input)}`;
 }
 
+const isKind = <K extends FieldMetadata['kind']>(field: FieldMetadata, kind: K): field is Extract<FieldMetadata, { kind: K }> => field.kind === kind;
+
+/** A field's metadata; the schema and the table must agree on its kind and presence (checked when the module loads). */
 function metadataOf<K extends FieldMetadata['kind']>(path: string, kind: K, presence: FieldPresence): Extract<FieldMetadata, { kind: K }> {
   const field = fieldAt(path);
-  if (!field || field.kind !== kind || field.presence !== presence) {
-    throw new Error(`field table and schema disagree at ${path}: the schema wants a ${presence} ${kind}`);
-  }
-  return field as Extract<FieldMetadata, { kind: K }>;
+  if (field && isKind(field, kind) && field.presence === presence) return field;
+  throw new Error(`field table and schema disagree at ${path}: the schema wants a ${presence} ${kind}`);
 }
 
 function numberWithMessages(field: NumberFieldMetadata) {
@@ -145,8 +145,9 @@ function curveField(path: string) {
   const field: CurveFieldMetadata = metadataOf(path, 'curve', 'required');
   const unit = field.unit;
   const expected = `a capacitance in ${unit} (a number or a string with an SI prefix) or datasheet points [[V, C], …] with voltages strictly increasing from 0`;
-  const pointSchema = z.tuple([siInput(), siInput()]);
-  return z.union([z.number(), z.string(), z.array(z.unknown()).meta({ items: z.toJSONSchema(pointSchema, { target: 'draft-2020-12' }), minItems: field.minimumPoints, maxItems: field.maximumPoints })], {
+  // The points' shape for the JSON Schema only: the transform below checks them with its own messages.
+  const { $schema: _dialect, ...pointJsonSchema } = z.toJSONSchema(z.tuple([siInput(), siInput()]), { target: 'draft-2020-12' });
+  return z.union([z.number(), z.string(), z.array(z.unknown()).meta({ items: pointJsonSchema, minItems: field.minimumPoints, maxItems: field.maximumPoints })], {
     error: (issue) => `expected ${expected}, found ${issue.input === undefined ? 'nothing (the field is required)' : describeFound(issue.input)}`,
   }).transform((value, ctx): number | CapacitanceCurve => {
     const add = (at: readonly PathKey[], message: string, input: unknown): void => { ctx.addIssue({ code: 'custom', path: [...at], message, input }); };

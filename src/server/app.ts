@@ -190,7 +190,10 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const id = String(req.params.id);
     const known = await listScenarios(options.scenariosDir);
     if (!SCENARIO_ID.test(id) || !known.some((s) => s.id === id)) throw new HttpError(404, `no bundled scenario named "${id}"`);
-    res.type('application/json').send(await readFile(join(options.scenariosDir, `${id}.json`), 'utf8'));
+    const file: unknown = JSON.parse(await readFile(join(options.scenariosDir, `${id}.json`), 'utf8'));
+    // The "$schema" line is for editors; the page gets the scenario's own fields.
+    if (typeof file === 'object' && file !== null && !Array.isArray(file)) Reflect.deleteProperty(file, '$schema');
+    res.json(file);
   });
 
   app.post('/api/simulate', async (req, res) => {

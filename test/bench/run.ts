@@ -122,7 +122,7 @@ async function sweepBench(): Promise<boolean> {
   return pass;
 }
 
-const files = readdirSync('scenarios').filter((f) => f.endsWith('.json')).sort().map((f) => `scenarios/${f}`);
+const files = readdirSync('scenarios').filter((f) => f.endsWith('.json') && !f.endsWith('.schema.json')).sort().map((f) => `scenarios/${f}`);
 console.log(`flyclamp benchmark: medians of ${REPEATS} runs, one core; targets: < ${TARGET_SCENARIO_SECONDS} s per demo scenario (all variants), ≤ ${TARGET_EVALUATIONS_PER_PERIOD} evaluations per period with ideal parts, real parts ≤ ${TARGET_REAL_PARTS_RATIO}× the ideal time`);
 let allMet = true;
 for (const file of files) allMet = (await scenarioBench(file)).ok && allMet;

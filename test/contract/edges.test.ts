@@ -50,7 +50,7 @@ const post = async (route: string, body: unknown): Promise<{ status: number; bod
 };
 
 /** Bad scenarios, each with the path its main issue must name. */
-const BAD: Array<[string, (d: Doc) => void, string[]]> = [
+const BAD: Array<[string, (d: Doc) => void, Array<string | number>]> = [
   ['a misspelt field', (d) => { d.transformer.leakageInductanse = '1.2u'; }, ['transformer', 'leakageInductanse']],
   ['a wrong unit', (d) => { d.transformer.magnetizingInductance = '60uF'; }, ['transformer', 'magnetizingInductance']],
   ['a missing required field', (d) => { delete d.switch.onResistance; }, ['switch', 'onResistance']],
@@ -89,6 +89,18 @@ describe('a bad scenario through the CLI and the API', () => {
       ['body.variants', ['body', 'variants']],
     ].sort((a, b) => issues.findIndex((i) => i.path === a[0]) - issues.findIndex((i) => i.path === b[0])));
     expect(issues.find((i) => i.path === 'body.colums')?.message).toBe('unknown field (expected scenario, variants, window, columns)');
+  });
+});
+
+describe('bundled scenarios through the API', () => {
+  it('lists the scenarios without the JSON Schema, and serves one without its "$schema" line (it is for editors)', async () => {
+    const list = (await (await fetch(`${base}/api/scenarios`)).json()) as { scenarios: Array<{ id: string }> };
+    expect(list.scenarios.map((s) => s.id).sort()).toEqual(['bias-48v', 'gate-drive-24v', 'mains-aux-12v']);
+    const served = (await (await fetch(`${base}/api/scenarios/bias-48v`)).json()) as Doc;
+    const file = await demo('bias-48v');
+    expect(file.$schema).toBe('./scenario.schema.json');
+    const { $schema: _forEditors, ...fields } = file;
+    expect(served).toEqual(fields);
   });
 });
 

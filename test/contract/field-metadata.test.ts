@@ -43,3 +43,26 @@ describe('field metadata', () => {
     expect(fieldAt('design.lossBudget')?.defaultText).toBe('10%');
   });
 });
+
+describe('the page can import the contract', () => {
+  /** Run-time imports (not `import type`) reachable from a file, resolved relative to it. */
+  function runtimeImports(entry: URL, seen = new Set<string>()): Set<string> {
+    if (seen.has(entry.href)) return seen;
+    seen.add(entry.href);
+    const text = readFileSync(entry, 'utf8');
+    for (const match of text.matchAll(/^(?:import|export)\s+(?!type\b)(?:[^'";]*?\sfrom\s+)?'([^']+)'/gm)) {
+      const specifier = match[1]!;
+      if (specifier.startsWith('.')) runtimeImports(new URL(specifier.replace(/\.js$/, '.ts'), entry), seen);
+      else seen.add(specifier);
+    }
+    return seen;
+  }
+
+  it.each(['field-metadata.ts', 'scenario-schema.ts', 'api.ts', 'issues.ts'])('src/contract/%s reaches no node-only module at run time', (file) => {
+    const reached = [...runtimeImports(new URL(`../../src/contract/${file}`, import.meta.url))];
+    const packages = reached.filter((r) => !r.startsWith('file:'));
+    expect(packages.filter((p) => p !== 'zod')).toEqual([]);
+    const files = reached.filter((r) => r.startsWith('file:')).map((r) => r.replace(/^.*\/src\//, 'src/'));
+    expect(files.every((f) => f.startsWith('src/contract/') || f.startsWith('src/circuit/')), files.join(', ')).toBe(true);
+  });
+});

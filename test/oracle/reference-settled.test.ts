@@ -11,7 +11,7 @@ import { readScenario } from './reference/netlist.js';
 import { availableVariants, referenceRun, type ReferenceMetrics, type ReferenceResult, type Variant } from './reference/reference-run.js';
 
 const SCENARIO_DIR = fileURLToPath(new URL('../../scenarios/', import.meta.url));
-const demos = readdirSync(SCENARIO_DIR).filter((f) => f.endsWith('.json')).sort();
+const demos = readdirSync(SCENARIO_DIR).filter((f) => f.endsWith('.json') && !f.endsWith('.schema.json')).sort();
 /**
  * A demo with its real parts taken out (constant Coss, the curve's last value; ideal clamp diode, no
  * loop, no avalanche, delay or fall): what this file's exact consequences of the ideal equations and

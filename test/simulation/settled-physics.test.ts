@@ -8,7 +8,7 @@ import { labScenario } from '../support/lab-scenarios.js';
 import { withIdealParts } from '../../src/model/ideal-parts.js';
 import { circuitForVariant, leakageRingPeriodSeconds } from '../../src/model/circuit-params.js';
 
-const demoFiles = readdirSync('scenarios').filter((f) => f.endsWith('.json')).map((f) => `scenarios/${f}`);
+const demoFiles = readdirSync('scenarios').filter((f) => f.endsWith('.json') && !f.endsWith('.schema.json')).map((f) => `scenarios/${f}`);
 async function demo(file: string): Promise<Scenario> {
   const loaded = await loadScenarioFile(file);
   if (!loaded.ok) throw new Error(`${file} is not valid`);
