@@ -287,6 +287,17 @@ describe('opened files and errors', () => {
     await page.fill('[data-path="supply.voltage"]', '48');
     expect(await page.isVisible('#design-error')).toBe(false);
   }, TEST_TIMEOUT_MS);
+  it('reports a design it cannot draw as a failure, not as done with an empty table', async () => {
+    // An answer that says ok but lacks the design's parts: drawing it fails, and the panel must say so.
+    await page.route('**/api/design', (route) => route.fulfill({ status: 200, contentType: 'application/json', body: JSON.stringify({ ok: true, design: {}, worstCaseTraces: {}, warnings: [] }) }));
+    const before = Number(await page.getAttribute('#design-panel', 'data-run-count'));
+    await page.click('#design-run');
+    await page.waitForFunction((n) => Number(document.getElementById('design-panel')!.dataset.runCount) >= n && document.getElementById('design-panel')!.dataset.state !== 'busy', before + 1, { timeout: RUN_TIMEOUT_MS });
+    await page.unroute('**/api/design');
+    expect(await page.getAttribute('#design-panel', 'data-last-outcome')).toBe('failed');
+    expect(await page.textContent('#design-error')).toMatch(/could not show the design/);
+    expect(await page.textContent('#design-status')).toMatch(/^Not designed/);
+  }, TEST_TIMEOUT_MS);
 });
 
 describe('accessibility', () => {

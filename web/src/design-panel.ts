@@ -55,6 +55,8 @@ async function runDesign(): Promise<void> {
   } catch (error) {
     const message = error instanceof Unreachable ? error.message : `The page could not show the design: ${(error as Error).message}.`;
     if (!(error instanceof Unreachable)) console.error(error);
+    // A half-drawn answer is not shown as a result (an earlier design stays, marked stale).
+    if (!state.design) $('#design-result').hidden = true;
     showMessages(area(), [message]);
     status('Not designed.');
   } finally {
