@@ -5,9 +5,13 @@ import { ALL_FIELDS, GROUPS, formField, isField, type ControlKind } from './fiel
 import { blockBox, blockOn, clearFieldErrors, controlKind, curveEditor, inputFor, setChoice, syncBlocks, syncControl } from './form.js';
 import { fmtNumber, fmtSi, readSi, SI_UNITS } from './format.js';
 import type { RawScenario } from './api.js';
+import { state } from './state.js';
 
-/** Every path the form carries; anything else in a loaded file is reported on load. */
-const KNOWN_PATHS = new Set(ALL_FIELDS.map((f) => f.path));
+/**
+ * Every path the form carries, and the file's `$schema` (for editors; flyclamp ignores it, the saved
+ * file keeps it); anything else in a loaded file is reported on load.
+ */
+const KNOWN_PATHS = new Set(['$schema', ...ALL_FIELDS.map((f) => f.path)]);
 
 export function getPath(obj: unknown, path: string): unknown {
   return path.split('.').reduce<unknown>((o, k) => (o !== null && typeof o === 'object' ? (o as Record<string, unknown>)[k] : undefined), obj);
@@ -74,7 +78,8 @@ const PLAIN_NUMBER = /^[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?$/;
 export function readForm(forFile = false, everything = false): RawScenario {
   const value = (text: string): string | number => (forFile ? (PLAIN_NUMBER.test(text.trim()) ? Number(text.trim()) : text.trim()) : text);
   const name = inputFor('name')!.value;
-  const scenario: RawScenario = { name: forFile ? name.trim() : name };
+  const schema = state.loaded.raw.$schema;
+  const scenario: RawScenario = { ...(forFile && typeof schema === 'string' ? { $schema: schema } : {}), name: forFile ? name.trim() : name };
   const kind = controlKind();
   for (const group of GROUPS) {
     if (group.optionalBlock && !blockOn(group.key) && !everything) continue;

@@ -20,7 +20,6 @@ hooks.edited = () => {
   updateStudyPreview();
 };
 hooks.refreshStudyFields = refreshStudyFields;
-hooks.updateStudyPreview = updateStudyPreview;
 hooks.drainExtras = captureTraces;
 hooks.redrawDrain = redrawDrain;
 hooks.simulated = (seconds) => {

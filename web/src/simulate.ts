@@ -60,8 +60,6 @@ function setBusy(on: boolean, startedAt: number): void {
   run.busyTimer = window.setInterval(tick, 50);
 }
 
-export function isBusy(): boolean { return runButton.disabled; }
-
 /** Stops a waiting live run and the request in flight (a new scenario is being loaded). */
 export function cancelRuns(): void {
   window.clearTimeout(run.liveTimer);

@@ -27,7 +27,6 @@ export const hooks = {
   edited: (): void => {},
   /** Which study fields exist follows the form's blocks and control. */
   refreshStudyFields: (): void => {},
-  updateStudyPreview: (): void => {},
   /** Extra traces on the drain plot (an opened scope capture). */
   drainExtras: (_result: SimulateAnswer): Array<Record<string, unknown>> => [],
   redrawDrain: (): void => {},
