@@ -5,7 +5,7 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import { spawnSync } from 'node:child_process';
 import { existsSync } from 'node:fs';
-import { mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
+import { mkdir, mkdtemp, readFile, rm, writeFile } from 'node:fs/promises';
 import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
 import { tmpdir } from 'node:os';
@@ -93,14 +93,28 @@ describe('a bad scenario through the CLI and the API', () => {
 });
 
 describe('bundled scenarios through the API', () => {
-  it('lists the scenarios without the JSON Schema, and serves one without its "$schema" line (it is for editors)', async () => {
+  it('lists the scenarios without the JSON Schema beside them', async () => {
     const list = (await (await fetch(`${base}/api/scenarios`)).json()) as { scenarios: Array<{ id: string }> };
     expect(list.scenarios.map((s) => s.id).sort()).toEqual(['bias-48v', 'gate-drive-24v', 'mains-aux-12v']);
-    const served = (await (await fetch(`${base}/api/scenarios/bias-48v`)).json()) as Doc;
-    const file = await demo('bias-48v');
-    expect(file.$schema).toBe('./scenario.schema.json');
-    const { $schema: _forEditors, ...fields } = file;
-    expect(served).toEqual(fields);
+  });
+
+  it('serves a scenario without its "$schema" line (it is for editors)', async () => {
+    const folder = join(work, 'scenarios');
+    await mkdir(folder, { recursive: true });
+    const fields = await demo('bias-48v');
+    await writeFile(join(folder, 'named.json'), JSON.stringify({ $schema: './scenario.schema.json', ...fields }), 'utf8');
+    const other = createServer({ scenariosDir: folder, webDir: join(root, 'web'), maxConcurrentRuns: 1 });
+    const otherListener = other.app.listen(0, '127.0.0.1');
+    await new Promise<void>((ok) => otherListener.once('listening', () => ok()));
+    try {
+      const served = (await (await fetch(`http://127.0.0.1:${(otherListener.address() as AddressInfo).port}/api/scenarios/named`)).json()) as Doc;
+      expect(served).toEqual(fields);
+    } finally {
+      const closed = new Promise<void>((ok) => otherListener.close(() => ok()));
+      otherListener.closeAllConnections();
+      await closed;
+      await other.close();
+    }
   });
 });
 

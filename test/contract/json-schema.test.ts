@@ -4,7 +4,9 @@
 import { readFileSync, readdirSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import type * as z from 'zod';
-import { propertyAt, scenarioJsonSchemaText, SCENARIO_SCHEMA_FILE_NAME } from '../../src/contract/scenario-json-schema.js';
+import { propertyAt, scenarioJsonSchemaText, SCENARIO_SCHEMA_FILE_NAME, siTextPattern } from '../../src/contract/scenario-json-schema.js';
+import { SI_UNITS } from '../../src/contract/field-metadata.js';
+import { parseSiNumber } from '../../src/circuit/si-number.js';
 import { scenarioFileSchema } from '../../src/contract/scenario-schema.js';
 import { validateScenario } from '../../src/circuit/validate-scenario.js';
 import { readmeFieldPaths } from './readme-fields.js';
@@ -46,13 +48,27 @@ describe('scenario.schema.json', () => {
     }
   });
 
-  it('is named by every bundled scenario, whose "$schema" the loader accepts', () => {
+  it('may be named by a scenario file: every bundled scenario with its "$schema" line is accepted', () => {
     const files = readdirSync(scenariosDir).filter((f) => f.endsWith('.json') && f !== SCENARIO_SCHEMA_FILE_NAME);
     expect(files.length).toBeGreaterThan(2);
     for (const file of files) {
       const doc = JSON.parse(readFileSync(new URL(file, scenariosDir), 'utf8')) as Record<string, unknown>;
-      expect(doc.$schema, file).toBe(`./${SCENARIO_SCHEMA_FILE_NAME}`);
-      expect(validateScenario(doc).ok, file).toBe(true);
+      expect(validateScenario({ $schema: `./${SCENARIO_SCHEMA_FILE_NAME}`, ...doc }).ok, file).toBe(true);
     }
+  });
+
+  it.each(SI_UNITS.map((unit) => [unit === '' ? '(none)' : unit, unit] as const))('marks a number text in %s as the loader reads it', (_name, unit) => {
+    const texts = ['1', '2.2u', `2.2u${unit}`, ` 4.7m${unit} `, `2.2 u${unit}`, '1e-6', '.5k', '5.', '-5', '+5m', `5µ${unit}`, `5μ${unit}`,
+      '60uF', '1uV', '2.2u H', 'fast', 'mm', '1mm', 'µ5', '1kohm', '3R', '10 kHz', '100A/s', '1MΩ', '1e3kHz', '', '1 %'];
+    const pattern = new RegExp(siTextPattern(unit));
+    for (const text of texts) expect(pattern.test(text), `${JSON.stringify(text)} in ${unit || 'no unit'}`).toBe(parseSiNumber(text, unit).ok);
+  });
+
+  it('puts the pattern on the string form of numbers, curves and shares', () => {
+    const schema = JSON.parse(scenarioJsonSchemaText()) as Record<string, unknown>;
+    expect(propertyAt(schema, 'transformer.leakageInductance')?.pattern).toBe(siTextPattern('H'));
+    expect(String(propertyAt(schema, 'design.lossBudget')?.pattern)).toContain('%');
+    const curve = propertyAt(schema, 'switch.drainCapacitance')?.anyOf as Array<Record<string, unknown>>;
+    expect(curve.find((branch) => branch.type === 'string')?.pattern).toBe(siTextPattern('F'));
   });
 });
