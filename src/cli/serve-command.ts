@@ -17,7 +17,7 @@ export async function runServeCommand(file: string | undefined, options: ServeOp
   }
   if (file) await runSimulateCommand(file, {});
   const server = createServer({
-    scenariosDir: join(packageRoot, 'scenarios'), webDir: join(packageRoot, 'web'), readmeFile: join(packageRoot, 'README.md'),
+    scenariosDir: join(packageRoot, 'scenarios'), webDir: join(packageRoot, 'dist', 'web'), readmeFile: join(packageRoot, 'README.md'),
     warmWorkers: true,
     // Bound by name (not an address): that name is a Host the page may be reached by.
     ...(isIP(options.host) === 0 ? { extraHostNames: [options.host] } : {}),

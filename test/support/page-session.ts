@@ -25,7 +25,10 @@ export async function startPageSession(): Promise<PageSession> {
   if (!existsSync(CHROMIUM)) {
     throw new Error(`${CHROMIUM} is missing: apt-get update && apt-get install -y --no-install-recommends chromium`);
   }
-  const server: FlyclampServer = createServer({ scenariosDir: join(root, 'scenarios'), webDir: join(root, 'web'), readmeFile: join(root, 'README.md') });
+  // The page as built by `npm run build` (vite, web/ → dist/web); `npm test` builds it first.
+  const webDir = join(root, 'dist', 'web');
+  if (!existsSync(join(webDir, 'index.html'))) throw new Error(`${webDir}/index.html is missing: run npm run build (it builds the page)`);
+  const server: FlyclampServer = createServer({ scenariosDir: join(root, 'scenarios'), webDir, readmeFile: join(root, 'README.md') });
   const listener: Server = server.app.listen(0, '127.0.0.1');
   await new Promise<void>((ok, fail) => { listener.once('listening', ok); listener.once('error', fail); });
   const baseUrl = `http://127.0.0.1:${(listener.address() as AddressInfo).port}`;

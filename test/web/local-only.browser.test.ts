@@ -1,5 +1,6 @@
 import { afterAll, beforeAll, describe, expect, it } from 'vitest';
 import type { Page } from 'playwright-core';
+import { readFile } from 'node:fs/promises';
 import { startPageSession, type PageSession } from '../support/page-session.js';
 
 // Nothing of a user's design may leave the machine (the product's rule): no control on the page
@@ -32,13 +33,26 @@ describe('the page keeps the design on this machine', () => {
     }
   });
 
-  it('offers no cloud or chart-studio control on the drawn plots, and names the image export after the scenario', async () => {
+  it('offers no cloud or chart-studio control on the drawn plots, and exports a titled image named after the scenario and variants', async () => {
     const titles = await page.evaluate(() => [...document.querySelectorAll('.modebar-btn')].map((b) => (b.getAttribute('data-title') ?? '').toLowerCase()));
     expect(titles.length).toBeGreaterThan(0);
     for (const t of titles) expect(t).not.toMatch(/cloud|chart studio|edit in|share/);
-    const filename = await page.evaluate(() => (document.getElementById('drain-plot') as unknown as { _context: { toImageButtonOptions: { filename: string } } })._context.toImageButtonOptions.filename);
     const name = await page.inputValue('[data-path="name"]');
     // A file name cannot hold a slash: "12 V / 0.5 A" becomes "12 V 0.5 A".
-    expect(filename).toBe(`${name.replace(/\s*\/\s*/g, ' ')} - drain voltage`);
+    const expected = `${name.replace(/\s*\/\s*/g, ' ')} - drain voltage - bare, clamp, damped`;
+    await page.hover('#drain-plot');
+    const [download] = await Promise.all([
+      page.waitForEvent('download'),
+      page.click('#drain-plot .modebar-btn[data-title="Download plot as PNG, titled"]'),
+    ]);
+    expect(download.suggestedFilename()).toBe(`${expected}.png`);
+    // Made in the browser: a data: URL, never a request to anywhere.
+    expect(download.url()).toMatch(/^data:image\/png;base64,/);
+    const png = await readFile((await download.path())!);
+    expect([...png.subarray(1, 4)].map((b) => String.fromCharCode(b)).join('')).toBe('PNG');
+    // The image is taller than the plot by the title's strip (IHDR height, at scale 2).
+    const { height } = await page.evaluate(() => ({ height: document.getElementById('drain-plot')!.clientHeight }));
+    expect(png.readUInt32BE(20)).toBe(2 * (height + 46));
+    expect(await page.getAttribute('#drain-plot', 'data-exported')).toBe(`${name.replace(/\s*\/\s*/g, ' ')} — drain voltage (bare, clamp, damped)`);
   });
 });

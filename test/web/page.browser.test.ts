@@ -99,8 +99,9 @@ describe('the plotting page', () => {
     const variants = traces.filter((t) => t.meta.startsWith('variant:'));
     expect(variants.map((t) => t.meta)).toEqual(['variant:bare', 'variant:clamp', 'variant:damped']);
     for (const [i, v] of ['bare', 'clamp', 'damped'].entries()) expect(variants[i]?.name).toContain(v);
-    // No GPU in CI: plain SVG scatter, never scattergl.
-    for (const t of traces) expect([t.type, t.mode]).toEqual(['scatter', 'lines']);
+    // No GPU in CI: plain SVG scatter, never scattergl; lines, but for the peak markers.
+    for (const t of traces) expect([t.type, t.mode]).toEqual(['scatter', t.meta.startsWith('peak:') ? 'markers' : 'lines']);
+    expect(traces.filter((t) => t.meta.startsWith('peak:')).map((t) => t.meta)).toEqual(['peak:bare', 'peak:clamp', 'peak:damped']);
     for (const t of variants) expect(t.points).toBeGreaterThan(100);
     expect(traces.map((t) => t.meta)).toEqual(expect.arrayContaining(['limit:rating', 'limit:derated']));
     const rating = si(demo.switch.voltageRating, 'V');

@@ -337,6 +337,23 @@ describe('the study panel', () => {
       return plot.layout.shapes.map((s) => s.x0);
     });
     expect(derated.some((x) => Math.abs(x - 0.8 * 650) < 1e-9)).toBe(true);
+    // The bare peaks (held at breakdown) sit far above the clamped ones: they get their own axis, so
+    // the clamped spreads are not squeezed into thin bars by a scale that must reach them.
+    const axes = await page.evaluate(() => {
+      const plot = document.getElementById('sweep-plot') as unknown as { _fullLayout: { xaxis: { range: number[] }; xaxis2?: { range: number[] } } };
+      // What was drawn: the width in pixels of the widest bar of each variant's histogram.
+      const widths = [...document.querySelectorAll('#sweep-plot .barlayer .trace')].map((trace) =>
+        Math.max(0, ...[...trace.querySelectorAll('.point path')].map((p) => (p as SVGGraphicsElement).getBBox().width)));
+      return { x: plot._fullLayout.xaxis.range, x2: plot._fullLayout.xaxis2?.range, widths };
+    });
+    const barePeaks = traces.find((t) => t.meta === 'variant:bare')!.x;
+    const clampedPeaks = traces.filter((t) => t.meta !== 'variant:bare').flatMap((t) => t.x);
+    expect(axes.x[1]!).toBeLessThan(Math.min(...barePeaks));
+    expect(axes.x[0]!).toBeLessThanOrEqual(Math.min(...clampedPeaks));
+    expect(axes.x2![0]!).toBeLessThanOrEqual(Math.min(...barePeaks));
+    expect(axes.x2![1]!).toBeGreaterThanOrEqual(Math.max(...barePeaks));
+    expect(axes.widths).toHaveLength(3);
+    for (const w of axes.widths) expect(w).toBeGreaterThan(3);
     for (const v of VARIANTS) {
       const peaks = traces.find((t) => t.meta === `variant:${v}`)!.x;
       const share = await dataValue(`#sweep-stats tr[data-variant="${v}"] td[data-metric="fractionOverDeratedLimit"]`);

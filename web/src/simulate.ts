@@ -1,0 +1,171 @@
+// Runs of /api/simulate: an explicit run (button, Enter), a live one a short pause after a valid
+// edit, and a zoomed re-run of the last scenario. A newer request cancels the older one (its fetch
+// is aborted, so the server stops its work) and an answer that is not the newest is dropped, so
+// the plots never go back to an older state of the form.
+
+import { $, button } from './dom.js';
+import { issuesOf, failureLine, postJson, Unreachable, type RawScenario, type SimulateAnswer } from './api.js';
+import { readForm, unreadableField } from './form-values.js';
+import { clearFieldErrors } from './form.js';
+import { showGeneral, showIssues } from './issues.js';
+import { readSi } from './format.js';
+import { drawResults, drawDrain } from './results.js';
+import { syncViewButtons } from './drain-plot.js';
+import { hooks, state, type TimeWindow } from './state.js';
+
+/** The pause after the last keystroke before an edit re-simulates by itself, ms. */
+export const LIVE_PAUSE_MS = 300;
+
+const run = {
+  sequence: 0,
+  abort: null as AbortController | null,
+  count: 0,
+  liveTimer: 0,
+  busyTimer: 0,
+  editedSinceRun: false,
+  stale: false,
+  statusText: '',
+  /** Why the last edit did not re-simulate, shown after the status. */
+  waiting: '',
+};
+
+const runButton = button('#run');
+
+export interface RunOptions {
+  /** A zoomed re-run of the last scenario inside this window. */
+  window?: TimeWindow;
+  /** Send this scenario instead of the form's (an opened file as it is, so the server sees every key). */
+  scenario?: RawScenario;
+  /** Started by a pause after typing: problems are marked but the focus stays where it is. */
+  live?: boolean;
+}
+
+/** Plot columns from the plot's width: about two per pixel keeps every crest without bloating. */
+function columnsForPlot(): number {
+  const width = $('#drain-plot').clientWidth || 900;
+  return Math.max(200, Math.min(4000, Math.round(width * 2)));
+}
+
+function setBusy(on: boolean, startedAt: number): void {
+  document.body.dataset.state = on ? 'busy' : document.body.dataset.state ?? 'idle';
+  runButton.disabled = on;
+  $('#busy').hidden = !on;
+  window.clearInterval(run.busyTimer);
+  if (!on) { syncViewButtons(); return; }
+  button('#zoom-turnoff').disabled = true;
+  button('#zoom-whole').disabled = true;
+  const tick = (): void => { $('#busy-time').textContent = `${((performance.now() - startedAt) / 1000).toFixed(1)} s`; };
+  tick();
+  // 50 ms keeps the counter visibly alive.
+  run.busyTimer = window.setInterval(tick, 50);
+}
+
+/** Stops a waiting live run and the request in flight (a new scenario is being loaded). */
+export function cancelRuns(): void {
+  window.clearTimeout(run.liveTimer);
+  run.abort?.abort();
+  run.abort = null;
+  run.sequence += 1;
+  setBusy(false, 0);
+}
+
+/** One request; see RunOptions. */
+export async function simulate(options: RunOptions = {}): Promise<void> {
+  const { window: window_, live = false } = options;
+  if (window_ && !state.last) return;
+  window.clearTimeout(run.liveTimer);
+  const scenario = options.scenario ?? (window_ && state.last ? state.last.scenario : readForm());
+  const body = { scenario, columns: columnsForPlot(), ...(window_ ? { window: window_ } : {}) };
+  run.abort?.abort();
+  const abort = new AbortController();
+  run.abort = abort;
+  const mine = ++run.sequence;
+  const startedAt = performance.now();
+  setBusy(true, startedAt);
+  if (!window_) { clearFieldErrors(); showGeneral([]); }
+  let outcome = 'failed';
+  try {
+    const answer = await postJson<SimulateAnswer>('/api/simulate', body, abort.signal);
+    if (mine !== run.sequence) return;
+    const seconds = ((performance.now() - startedAt) / 1000).toFixed(2);
+    const issues = issuesOf(answer);
+    if (answer.ok?.ok) {
+      outcome = 'ok';
+      const data = answer.ok;
+      if (window_) drawDrain(data, window_);
+      else {
+        const sw = scenario.switch as Record<string, unknown> | undefined;
+        state.last = { scenario, result: data, label: state.sourceLabel, avalanche: readSi(sw?.avalancheVoltage ?? '', 'V') };
+        run.editedSinceRun = false;
+        run.waiting = '';
+        drawResults(data);
+        hooks.simulated(Number(seconds));
+      }
+      setResultsStale(false);
+      setStatus(`${window_ ? 'Turn-off detail' : live ? 'Re-simulated' : 'Simulated'} in ${seconds} s: ${data.report.scenario}`);
+    } else if (issues) {
+      outcome = 'invalid';
+      showIssues(issues, (lines) => showGeneral(lines), !live);
+      setStatus(`Not simulated: the design has ${issues.length === 1 ? 'a problem' : `${issues.length} problems`}.`);
+    } else {
+      showGeneral([failureLine(answer, ' Fewer cycles (solver settings) or a looser tolerance may help.')]);
+      setStatus(`Failed after ${seconds} s.`);
+    }
+    if (outcome !== 'ok' && state.last) setResultsStale(true);
+  } catch (error) {
+    if (abort.signal.aborted || mine !== run.sequence) return;
+    showGeneral([error instanceof Unreachable ? error.message : `the page failed: ${(error as Error).message}`]);
+    if (!(error instanceof Unreachable)) console.error(error);
+    setStatus('Failed.');
+    if (state.last) setResultsStale(true);
+  } finally {
+    if (mine === run.sequence) {
+      run.abort = null;
+      setBusy(false, 0);
+      document.body.dataset.state = outcome === 'ok' ? 'done' : 'error';
+      document.body.dataset.lastOutcome = outcome;
+      run.count += 1;
+      document.body.dataset.runCount = String(run.count);
+    }
+  }
+}
+
+function setStatus(text: string): void {
+  run.statusText = text;
+  renderStatus();
+}
+
+function renderStatus(): void {
+  let text = run.statusText;
+  if (run.stale) text += ' The plots and the table still show the last successful run.';
+  else if (run.waiting) text += ` · ${run.waiting}`;
+  $('#status').textContent = text;
+}
+
+function setResultsStale(stale: boolean): void {
+  run.stale = stale;
+  $('.results').classList.toggle('stale', stale);
+  renderStatus();
+}
+
+/**
+ * The form changed: after a pause of LIVE_PAUSE_MS without another change, `afterPause` runs (the
+ * link follows the form) and, when every field reads as a number, the form re-simulates.
+ */
+export function scheduleLiveRun(afterPause: () => void): void {
+  window.clearTimeout(run.liveTimer);
+  run.editedSinceRun = true;
+  run.liveTimer = window.setTimeout(() => {
+    afterPause();
+    const unreadable = unreadableField();
+    if (unreadable) {
+      run.waiting = `Not re-simulated: “${unreadable}” does not read as a number yet.`;
+      renderStatus();
+      return;
+    }
+    run.waiting = '';
+    void simulate({ live: true });
+  }, LIVE_PAUSE_MS);
+  if (state.last && !run.waiting) { run.waiting = 'The form changed: re-simulating after a short pause.'; renderStatus(); }
+}
+
