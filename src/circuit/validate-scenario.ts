@@ -4,7 +4,7 @@
 import { parseSiNumber } from './si-number.js';
 import { peakCurrentForPower } from './load-operating-point.js';
 import { plausibilityWarnings } from './plausibility.js';
-import { DEFAULT_CLAMP_EXTRAS, DEFAULT_OUTPUT_EFFICIENCY, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type Share, type SimulationSettings } from './scenario.js';
+import { DEFAULT_CLAMP_EXTRAS, DEFAULT_OUTPUT_EFFICIENCY, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, DEFAULT_DESIGN, DEFAULT_SIMULATION, PREFERRED_SERIES, DAMPER_CHOICES, reflectedVoltage, type CapacitanceCurve, type ClampParts, type DesignTargets, type Scenario, type Share, type SimulationSettings } from './scenario.js';
 
 export interface ValidationIssue { path: string; message: string }
 
@@ -83,6 +83,7 @@ const SCENARIO_SPEC: BlockSpec = block({
     clampRippleMaximum: setting('fraction', DEFAULT_DESIGN.clampRippleMaximum, [0.001, 0.5]),
     resistorSeries: { kind: 'choice', options: PREFERRED_SERIES, optional: DEFAULT_DESIGN.resistorSeries },
     capacitorSeries: { kind: 'choice', options: PREFERRED_SERIES, optional: DEFAULT_DESIGN.capacitorSeries },
+    damper: { kind: 'choice', options: DAMPER_CHOICES, optional: DEFAULT_DESIGN.damper },
     ambientTemperature: { kind: 'number', unit: '', range: 'any', optional: DEFAULT_DESIGN.ambientTemperature, bounds: [-40, 150] },
     damperCapacitanceRatio: setting('positive', DEFAULT_DESIGN.damperCapacitanceRatio, [1, 20]),
     voltageAllowance: { kind: 'share', unit: 'V', optional: DEFAULT_DESIGN.voltageAllowance, maximumPercent: 30 },
