@@ -13,6 +13,7 @@ import { availableParallelism } from 'node:os';
 import { scenarioToJson } from '../../src/circuit/scenario-json.js';
 import { gridPoints } from '../../src/study/study-points.js';
 import { fitBench } from './fit-capture.js';
+import { designBench } from './design.js';
 // The compiled study runner (npm run bench builds first), so that its workers load compiled code
 // as the CLI's do: under tsx each worker would first load and transpile the sources.
 const compiledStudy = '../../dist/study/run-study.js';
@@ -129,4 +130,5 @@ for (const file of files) allMet = (await scenarioBench(file)).ok && allMet;
 allMet = memoryBench() && allMet;
 allMet = (await sweepBench()) && allMet;
 allMet = (await fitBench()) && allMet;
+allMet = (await designBench()) && allMet;
 console.log(`\n${allMet ? 'all targets met' : 'some targets MISSED'}`);
