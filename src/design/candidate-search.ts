@@ -109,6 +109,8 @@ export async function searchCandidates(ctx: SearchContext): Promise<SearchResult
       return ctx.simulate({ r: hand.resistance, c: hand.capacitance, rs: designed.resistance, cs: designed.capacitance }, 'damped');
     })()
     : null;
+  // Awaited after the clamps; should they fail first, its own failure must not go unhandled.
+  handDamped?.catch(() => undefined);
   await tryClamps(steps.filter((step) => allowed(0, step)).map((step) => ({ level: 0, step })));
   let rounds = 1;
 

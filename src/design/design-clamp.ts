@@ -185,7 +185,9 @@ async function designWith(s: Scenario, hand: HandDesign, runner: DesignRunner, o
     settling.set(settleKey(c), runner.run({ ...base, scenario: placed, settle: true, variants: [] }).then((r) => r.peakCurrent!));
   }
   const settledCurrents = new Map<string, number>();
-  for (const [k, p] of settling) settledCurrents.set(k, await p);
+  // All awaited together: a failed settling must not leave the others' failures unhandled.
+  const settledValues = await Promise.all(settling.values());
+  [...settling.keys()].forEach((k, i) => settledCurrents.set(k, settledValues[i]!));
   const settledCorner = (c: Corner): Corner => (c.fromLoad ? { ...c, peakCurrent: settledCurrents.get(settleKey(c))! } : c);
   const corners = hand.corners.map(settledCorner);
   const worstCase = corners[hand.corners.indexOf(hand.worstCase)]!;

@@ -290,6 +290,17 @@ describe('flyclamp design (CLI)', () => {
     }
   }, 60_000);
 
+  it('a design stopped at its --max-seconds deadline while its worker processes run says so in one line: no stack trace from a worker whose parent left', async () => {
+    // The estimate lets 6 s through for this demo; on this machine class the design takes longer, so the deadline stops it mid-search.
+    const result = await run(process.execPath, ['dist/cli/main.js', 'design', 'scenarios/bias-48v.json', '--max-seconds', '6']).then(
+      (r) => ({ code: 0, stderr: r.stderr }), (e: { code: number; stderr: string }) => ({ code: e.code, stderr: e.stderr }));
+    expect([0, 1]).toContain(result.code);
+    expect(result.stderr).not.toMatch(/EPIPE|\n\s+at |Unhandled/);
+    if (result.code === 1) expect(result.stderr.trim()).toMatch(/^flyclamp: simulation failed: .*--max-seconds 6/);
+    // Give a killed child a moment to report, had it anything to say.
+    await new Promise((ok) => setTimeout(ok, 500));
+  }, 60_000);
+
   it('--report writes a self-contained HTML report (no external resources) and never over the input', async () => {
     const dir = await mkdtemp(join(tmpdir(), 'flyclamp-design-'));
     const scenarioFile = join(dir, 'bias.json');
