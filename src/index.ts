@@ -95,10 +95,10 @@ export function simulate(scenario: Scenario, options: SimulateOptions = {}): Sim
 }
 
 /** Sizes the clamp and damper by hand formulas and verifies them by simulation at the worst corners (`flyclamp design`). */
-export function design(scenario: Scenario, options: RunLimits = {}): DesignResult {
+export async function design(scenario: Scenario, options: RunLimits = {}): Promise<DesignResult> {
   const maxSeconds = options.maxSeconds ?? DEFAULT_MAX_SECONDS;
   refuseOverBudget(scenario, designVariantRuns(scenario), maxSeconds);
-  const { worstCaseRuns: _runs, ...result } = designClamp(scenario, { deadlineMs: Date.now() + maxSeconds * 1000 });
+  const { plots: _plots, ...result } = await designClamp(scenario, { deadlineMs: Date.now() + maxSeconds * 1000 });
   return result;
 }
 

@@ -44,6 +44,8 @@ export interface Scenario {
 }
 
 export const PREFERRED_SERIES = ['E12', 'E24', 'E96'] as const;
+export const DAMPER_CHOICES = ['least-loss', 'always', 'never'] as const;
+export type DamperChoice = (typeof DAMPER_CHOICES)[number];
 export type PreferredSeriesName = (typeof PREFERRED_SERIES)[number];
 
 export interface DesignTargets {
@@ -62,6 +64,8 @@ export interface DesignTargets {
   ambientTemperature: number;
   /** Damper capacitor as a multiple of the drain capacitance. */
   damperCapacitanceRatio: number;
+  /** Whether the design fits the RC damper: the least-loss passing set decides, or always, or never. */
+  damper: DamperChoice;
   /** Kept below the derated limit at every corner for what the model leaves out; V or a fraction of the rating. */
   voltageAllowance: Share;
   /** Clamp plus damper loss allowed at the worst-loss corner; W or a fraction of the output power. */
@@ -99,6 +103,7 @@ export const DEFAULT_DESIGN: Omit<DesignTargets, 'inputVoltageMinimum' | 'inputV
   capacitorSeries: 'E12',
   ambientTemperature: 50,
   damperCapacitanceRatio: 4,
+  damper: 'least-loss',
 };
 
 export type SwitchControl =

@@ -1,7 +1,8 @@
 import { loadScenarioFile } from '../circuit/load-scenario.js';
 import { formatIssues } from '../circuit/validate-scenario.js';
 import { formatSi } from '../circuit/si-number.js';
-import { designClamp, type DesignResult } from '../design/design-clamp.js';
+import { designClamp, shownCandidates, type DesignResult } from '../design/design-clamp.js';
+import { designWorkers } from '../design/design-runner.js';
 import { DesignImpossible } from '../design/hand-design.js';
 import { designReportHtml } from '../design/design-report-html.js';
 import { SimulationFailure } from '../simulation/run-variant.js';
@@ -22,19 +23,19 @@ export async function runDesignCommand(file: string, options: DesignOptions): Pr
     await outputFor('--report', () => checkOutputPath(options.report!, [file]));
   }
   enforceWorkBudget(loaded.scenario, designVariantRuns(loaded.scenario), maxSeconds);
-  let result: ReturnType<typeof designClamp>;
+  let result: Awaited<ReturnType<typeof designClamp>>;
   try {
-    result = designClamp(loaded.scenario, { deadlineMs: Date.now() + maxSeconds * 1000 });
+    result = await designClamp(loaded.scenario, { deadlineMs: Date.now() + maxSeconds * 1000, workers: designWorkers(loaded.scenario) });
   } catch (error) {
     if (error instanceof DesignImpossible || error instanceof SimulationFailure) throw new SimulationFailed(withBudgetHint(error.message, maxSeconds));
     throw error;
   }
-  const { worstCaseRuns, ...json } = result;
+  const { plots, ...json } = result;
   const notFinite = nonFinitePaths(json);
   if (notFinite.length > 0) throw new SimulationFailed(`the design has no finite value for ${notFinite.join(', ')}: check the scenario's part values for a wrong SI prefix`);
   process.stdout.write(options.json ? `${JSON.stringify(json, null, 2)}\n` : `${designTable(json)}\n`);
   if (options.report) {
-    await outputFor('--report', () => writeFileAtomic(options.report!, designReportHtml(loaded.scenario, json, worstCaseRuns), [file]));
+    await outputFor('--report', () => writeFileAtomic(options.report!, designReportHtml(loaded.scenario, json, plots, loaded.raw), [file]));
     if (!options.json) process.stdout.write(`Report written to ${options.report}\n`);
   }
 }
@@ -51,7 +52,8 @@ export function designTable(d: DesignResult): string {
   if (h.extracted) lines.push(`From the measured ring: Coss ${v(h.extracted.drainCapacitance, 'F')}, Llk ${v(h.extracted.leakageInductance, 'H')}, Z0 ${v(h.extracted.characteristicImpedance, 'Ω')} (replace the scenario's values)`);
   lines.push('', 'Equations');
   for (const e of h.equations) lines.push(`  ${e.quantity.padEnd(42)} ${e.formula.padEnd(46)} ${v(e.value, e.unit).padStart(11)}   [${e.source}]`);
-  lines.push('', 'Chosen parts (paste into the scenario file)', `  "clamp": ${JSON.stringify(d.clamp)}`, `  "damper": ${JSON.stringify(d.damper)}`);
+  lines.push('', 'Chosen parts (paste into the scenario file)', `  "clamp": ${JSON.stringify(d.clamp)}`);
+  lines.push(d.damperFitted ? `  "damper": ${JSON.stringify(d.damper)}` : `  no damper (leave the damper block out; the designed one, ${v(d.damper.resistance, 'Ω')} + ${v(d.damper.capacitance, 'F')}, is simulated for comparison only)`);
   for (const a of d.adjustments) lines.push(`  adjusted: R = ${v(a.resistance, 'Ω')}, C = ${v(a.capacitance, 'F')} (worst-case peak ${v(a.worstCasePeak, 'V')}): ${a.reason}`);
   lines.push('', 'Part stresses (worst case, simulated)');
   for (const s of d.stresses) {
@@ -69,11 +71,12 @@ export function designTable(d: DesignResult): string {
     lines.push(`      peaks ${peaks}; ${c.pass ? 'PASS' : 'FAIL'}, margin ${v(h.deratedLimit - d.allowance - c.peakDrainVoltage, 'V')}${limiting}`);
   }
   const l = d.losses;
-  lines.push('', `Losses at "${l.corner}": clamp ${v(l.clamp, 'W')} + damper ${v(l.damper, 'W')} = ${v(l.total, 'W')}, ${(100 * l.share).toFixed(1)} % of the ${v(l.outputPower, 'W')} output; budget ${l.budget === null ? 'none' : v(l.budget, 'W')}: ${l.pass ? 'PASS' : 'FAIL'}`);
-  lines.push('', 'Parts tried at the worst case, least loss first (the design takes the first that passes with a damper)');
-  for (const c of d.candidates.slice(0, 6)) {
+  lines.push('', `Losses at "${l.corner}", as built: clamp ${v(l.clamp, 'W')} + damper ${d.damperFitted ? v(l.damper, 'W') : 'none'} = ${v(l.total, 'W')}, ${(100 * l.share).toFixed(1)} % of the ${v(l.outputPower, 'W')} output; budget ${l.budget === null ? 'none' : v(l.budget, 'W')}: ${l.pass ? 'PASS' : 'FAIL'}`);
+  lines.push('', `Parts tried at the worst case, least loss first (${d.search.clampSets} clamp sets, ${d.candidates.length} candidates; the design takes the first that passes${d.hand.targets.damper === 'least-loss' ? '' : `, design.damper "${d.hand.targets.damper}"`})`);
+  for (const c of shownCandidates(d)) {
     const damper = c.damper ? `damper ${v(c.damper.resistance, 'Ω')} + ${v(c.damper.capacitance, 'F')}` : 'no damper';
-    lines.push(`  ${c.pass ? 'pass' : 'FAIL'}  clamp ${v(c.clamp.resistance, 'Ω')} ∥ ${v(c.clamp.capacitance, 'F')}, ${damper}: peak ${v(c.peakDrainVoltage, 'V')}, loss ${v(c.totalLoss, 'W')}, ${c.partsCount} parts`);
+    const chosen = c === d.candidates[d.chosenCandidate];
+    lines.push(`  ${c.pass ? 'pass' : 'FAIL'}  clamp ${v(c.clamp.resistance, 'Ω')} ∥ ${v(c.clamp.capacitance, 'F')}, ${damper}: peak ${v(c.peakDrainVoltage, 'V')}, margin ${v(c.margin, 'V')}, loss ${v(c.totalLoss, 'W')}, ${c.partsCount} parts${c.handDesign ? '  (hand design)' : ''}${chosen ? '  ← chosen' : ''}`);
   }
   lines.push('', `Overall: ${d.pass ? 'PASS' : 'FAIL'} against the derated limit less the allowance at every corner, and the loss budget.`);
   for (const n of d.notes) lines.push(`Note: ${n}`);

@@ -6,7 +6,7 @@
 // src/circuit files that are themselves plain TypeScript).
 
 import {
-  DEFAULT_CLAMP_EXTRAS, DEFAULT_DESIGN, DEFAULT_OUTPUT_EFFICIENCY, DEFAULT_SIMULATION, PREFERRED_SERIES,
+  DAMPER_CHOICES, DEFAULT_CLAMP_EXTRAS, DEFAULT_DESIGN, DEFAULT_OUTPUT_EFFICIENCY, DEFAULT_SIMULATION, PREFERRED_SERIES,
   type PreferredSeriesName, type Share,
 } from '../circuit/scenario.js';
 
@@ -192,6 +192,11 @@ export const SCENARIO_FIELDS: readonly FieldMetadata[] = [
   seriesField('design.resistorSeries', 'Resistor values from', D.resistorSeries),
   seriesField('design.capacitorSeries', 'Capacitor values from', D.capacitorSeries),
   setting('design', 'design.ambientTemperature', 'any', D.ambientTemperature, [-40, 150], 'Ambient temperature', 'ambient temperature, °C, for the resistor power derating', '°C'),
+  {
+    kind: 'enum', path: 'design.damper', group: 'design', label: 'Damper in the design', unit: '', displayUnit: '', presence: 'defaulted',
+    options: DAMPER_CHOICES, defaultValue: D.damper, defaultText: D.damper,
+    help: 'least-loss: the passing part set with the least loss decides, with or without the RC damper; always; never',
+  },
   setting('design', 'design.damperCapacitanceRatio', 'positive', D.damperCapacitanceRatio, [1, 20], 'Damper capacitor, times drain capacitance', 'damper capacitor as a multiple of the drain capacitance', '×'),
   { kind: 'share', path: 'design.voltageAllowance', group: 'design', label: 'Allowance kept below the derated limit, in volts or a percentage of the rating', unit: 'V', displayUnit: 'V', presence: 'defaulted', maximumPercent: 30, percentOf: 'switch.voltageRating', defaultValue: D.voltageAllowance, defaultText: shareText(D.voltageAllowance), help: 'kept below the derated limit at every corner for what the model leaves out (common practice: a few percent)' },
   { kind: 'share', path: 'design.lossBudget', group: 'design', label: 'Clamp and damper loss budget, in watts or a percentage of the output', unit: 'W', displayUnit: 'W', presence: 'defaulted', maximumPercent: 100, percentOf: 'output power', defaultValue: D.lossBudget, defaultText: shareText(D.lossBudget), help: 'clamp plus damper loss allowed at the worst-loss corner (common practice: a tenth of the output)' },

@@ -9,7 +9,7 @@ import * as z from 'zod';
 import { parseSiNumber } from '../circuit/si-number.js';
 import { peakCurrentForPower } from '../circuit/load-operating-point.js';
 import {
-  DEFAULT_SIMULATION, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, PREFERRED_SERIES, reflectedVoltage,
+  DEFAULT_SIMULATION, FORWARD_RECOVERY_MINIMUM_LOOP_INDUCTANCE, PREFERRED_SERIES, DAMPER_CHOICES, reflectedVoltage,
   type CapacitanceCurve, type DesignTargets, type Scenario, type Share, type SwitchControl,
 } from '../circuit/scenario.js';
 import {
@@ -124,13 +124,16 @@ function shareField(path: string) {
     .meta(describeField(field));
 }
 
-function seriesField(path: string) {
+/** A field with a fixed list of words, the list held to the field table's. */
+function enumField<const Options extends readonly [string, ...string[]]>(path: string, options: Options) {
   const field: EnumFieldMetadata = metadataOf(path, 'enum', 'defaulted');
-  if (field.options.join() !== PREFERRED_SERIES.join()) throw new Error(`field table and schema disagree on the options of ${path}`);
-  return z.enum(PREFERRED_SERIES, { error: (issue) => `expected one of ${field.options.join(', ')}, found ${describeFound(issue.input)}` })
-    .default(PREFERRED_SERIES.find((name) => name === field.defaultValue) ?? PREFERRED_SERIES[0])
+  if (field.options.join() !== options.join()) throw new Error(`field table and schema disagree on the options of ${path}`);
+  return z.enum(options, { error: (issue) => `expected one of ${field.options.join(', ')}, found ${describeFound(issue.input)}` })
+    .default(options.find((name) => name === field.defaultValue) ?? options[0])
     .meta(describeField(field));
 }
+
+const seriesField = (path: string) => enumField(path, PREFERRED_SERIES);
 
 function nameField() {
   const field = metadataOf('name', 'string', 'required');
@@ -256,6 +259,7 @@ export const scenarioFileSchema = block('', {
     resistorSeries: seriesField('design.resistorSeries'),
     capacitorSeries: seriesField('design.capacitorSeries'),
     ambientTemperature: defaultedNumber('design.ambientTemperature'),
+    damper: enumField('design.damper', DAMPER_CHOICES),
     damperCapacitanceRatio: defaultedNumber('design.damperCapacitanceRatio'),
     voltageAllowance: shareField('design.voltageAllowance'),
     lossBudget: shareField('design.lossBudget'),

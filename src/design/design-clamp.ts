@@ -1,21 +1,24 @@
-// `flyclamp design`: hand design, part stresses, and verification of the chosen parts by the
-// settled simulation at the worst-case corner and at nominal, with a one-step adjustment of the
-// clamp resistor where the simulation disagrees with the formulas.
+// `flyclamp design`: hand design, the search for the cheapest preferred parts that pass at the
+// worst case, part stresses, and verification of the chosen parts by the settled simulation at
+// every corner; the simulations of each step run side by side on the design's runner.
 
-import { DEFAULT_CLAMP_EXTRAS, type Scenario, type VariantName } from '../circuit/scenario.js';
-import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
-import { runVariant, type VariantRun } from '../simulation/run-variant.js';
-import { settleOperatingPoint } from '../simulation/operating-point.js';
-import { roundToSeries, stepInSeries, type PreferredSeries } from '../equations/preferred-values.js';
+import { DEFAULT_CLAMP_EXTRAS, type DamperChoice, type Scenario, type VariantName } from '../circuit/scenario.js';
+import { formatSi } from '../circuit/si-number.js';
+import type { SimulationReport } from '../analysis/simulation-report.js';
+import { roundToSeries, type PreferredSeries } from '../equations/preferred-values.js';
 import { CHIP_RESISTOR_CASES, THROUGH_HOLE_RESISTORS, chooseResistorArrangement, capacitorVoltageMargin, type ResistorArrangement } from '../equations/part-ratings.js';
 import { handDesign, type Corner, type HandDesign } from './hand-design.js';
+import { searchCandidates, type Candidate } from './candidate-search.js';
+import { inProcessRunner, processRunner, type DesignRunner, type DesignRunSuccess } from './design-runner.js';
+import type { DrainTraces } from './design-run-task.js';
+
+export type { Candidate } from './candidate-search.js';
 
 /** Voltage ratings parts are commonly sold in (V), for suggesting a rating with margin. */
 const CAPACITOR_VOLTAGE_RATINGS = [16, 25, 50, 63, 100, 160, 200, 250, 400, 450, 500, 630, 1000, 1500, 2000, 3000];
 const DIODE_VOLTAGE_RATINGS = [50, 100, 150, 200, 400, 600, 800, 1000, 1200, 1500, 2000];
 /** Capacitor and diode voltages kept to 80 % of the rating: common practice (IPC-9592B, from memory). */
 const VOLTAGE_DERATING = 0.8;
-const MAX_ADJUSTMENT_STEPS = 6;
 
 export interface CornerVerification {
   conditions: Corner;
@@ -39,22 +42,8 @@ export interface CornerReport {
   pass: boolean;
 }
 
-/** A set of preferred parts tried at the worst case: the clamp, and the damper or none. */
-export interface Candidate {
-  clamp: { resistance: number; capacitance: number };
-  damper: { resistance: number; capacitance: number } | null;
-  /** The higher of the clamp-alone and (with a damper) the damped peaks at the worst case, V. */
-  peakDrainVoltage: number;
-  /** Clamp resistor and diode plus damper resistor at the worst case, W. */
-  totalLoss: number;
-  /** Under the derated limit less the allowance, settled, and within the loss budget there. */
-  pass: boolean;
-  /** Parts in the build: clamp R and C, and the damper's two when fitted. */
-  partsCount: number;
-}
-
 export interface LossVerdict {
-  /** At the worst-loss corner, clamp and damper fitted, W: the clamp's resistor and diode, the damper's resistor. */
+  /** At the worst-loss corner, as built (with the damper only when fitted), W: the clamp's resistor and diode, the damper's resistor. */
   clamp: number;
   damper: number;
   total: number;
@@ -83,9 +72,12 @@ export interface PartStress {
 export interface DesignResult {
   scenario: string;
   hand: HandDesign;
-  /** Blocks in the scenario format, to paste into a scenario file. */
+  /** Blocks in the scenario format, to paste into a scenario file (the damper only when fitted). */
   clamp: { resistance: number; capacitance: number; diodeDrop: number };
+  /** The damper fitted, or (when `damperFitted` is false) the one designed, simulated for comparison only. */
   damper: { resistance: number; capacitance: number };
+  /** Whether the design fits the damper: the least-loss passing set may have none (design.damper). */
+  damperFitted: boolean;
   adjustments: Array<{ resistance: number; capacitance: number; worstCasePeak: number; reason: string }>;
   stresses: PartStress[];
   verification: { worstCase: CornerVerification; nominal: CornerVerification };
@@ -95,13 +87,17 @@ export interface DesignResult {
   /** The corner with the least margin. */
   limitingCorner: string;
   losses: LossVerdict;
-  /** The parts tried at the worst case, cheapest (least loss) first; the design takes the cheapest passing one with a damper. */
+  /** The parts tried at the worst case, least loss first; the design takes the first that passes (design.damper may rule out the sets with or without a damper). */
   candidates: Candidate[];
+  /** What the design cost: clamp sets tried, settled simulations in all (variant runs and load settlings), rounds of the search, worker processes (0: one process). */
+  search: { clampSets: number; simulations: number; rounds: number; workers: number };
+  /** Index in `candidates` of the set the design took. */
+  chosenCandidate: number;
   pass: boolean;
   notes: string[];
 }
 
-interface Verified { corner: CornerVerification; runs: VariantRun[]; at: Scenario }
+type Parts = { r: number; c: number; rs: number; cs: number };
 
 export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: number; c: number; rs: number; cs: number }): Scenario {
   // A capacitance extracted from a measured ring replaces the part's; otherwise the full curve is verified.
@@ -118,28 +114,12 @@ export function scenarioAtCorner(s: Scenario, hand: HandDesign, corner: Corner, 
   };
 }
 
-/**
- * The verdict needs the clamp and damped variants only; the bare one (for the plot and the table)
- * runs at the final worst case, which keeps a design with several corners to two runs per corner.
- */
-function verify(s: Scenario, hand: HandDesign, corner: Corner, parts: { r: number; c: number; rs: number; cs: number }, deadlineMs?: number): Verified {
-  const placed = scenarioAtCorner(s, hand, corner, parts);
-  // With the load given, the corner's current is the one that delivers it there.
-  const settled = corner.fromLoad ? settleOperatingPoint(placed, deadlineMs === undefined ? {} : { deadlineMs }) : { scenario: placed, point: null };
-  const at = settled.scenario;
-  if (settled.point) corner = { ...corner, peakCurrent: settled.point.peakCurrent };
-  const variants: VariantName[] = ['clamp', 'damped'];
-  const runs = variants.map((v) => runVariant(at, v, deadlineMs === undefined ? {} : { deadlineMs }));
-  const report = simulationReport(at, runs, hand.targets.drainDerating);
-  const worst = Math.max(report.variants.clamp!.peakDrainVoltage, report.variants.damped!.peakDrainVoltage);
-  // A run that did not settle has no steady-state peak to judge: it cannot pass.
-  const allSettled = report.variants.clamp!.settled && report.variants.damped!.settled;
-  const limit = hand.deratedLimit - hand.allowance;
-  return {
-    corner: { conditions: corner, variants: report.variants, pass: allSettled && worst <= limit, margin: limit - worst },
-    runs,
-    at,
-  };
+/** The total a resistor is built at: itself, or n equal preferred parts in series where one part cannot carry it. */
+function resistorBuild(value: number, load: { power: number; voltage: number; ambientCelsius: number }, series: PreferredSeries): { total: number; count: number; perResistor: number } {
+  const arrangement = fewestResistors({ resistance: value, ...load });
+  if (!arrangement.ok || arrangement.count === 1) return { total: value, count: 1, perResistor: value };
+  const split = preferredSplit(value, arrangement.count, series);
+  return { total: split.total, count: arrangement.count, perResistor: split.value };
 }
 
 /**
@@ -161,67 +141,121 @@ function fewestResistors(request: { resistance: number; power: number; voltage: 
 
 const ratingAbove = (ratings: readonly number[], needed: number): number | undefined => ratings.find((r) => r >= needed);
 
-export interface DesignOptions { deadlineMs?: number }
+export interface DesignOptions {
+  deadlineMs?: number;
+  /** Where the simulations run (the caller closes it); else `workers` processes, or this process when 0 (the default). */
+  runner?: DesignRunner;
+  workers?: number;
+  /** Pixel columns of the drain traces kept for the plots. */
+  traceColumns?: number;
+}
 
-export function designClamp(s: Scenario, options: DesignOptions = {}): DesignResult & { worstCaseRuns: VariantRun[] } {
+/** Drain traces for the plots: every variant at the worst case, and the corner that sets the peak. */
+export interface DesignPlots {
+  worstCase: Partial<Record<VariantName, DrainTraces>>;
+  limiting: { corner: string; traces: Partial<Record<VariantName, DrainTraces>> };
+}
+
+const DEFAULT_TRACE_COLUMNS = 800;
+
+export async function designClamp(s: Scenario, options: DesignOptions = {}): Promise<DesignResult & { plots: DesignPlots }> {
   const hand = handDesign(s);
-  const series = hand.targets.resistorSeries;
-  // The ripple rule follows the resistor when it moves: C at or above 1/(ΔVc/Vc·R·fsw).
-  const capacitanceFor = (r: number): number =>
-    roundToSeries(1 / (hand.targets.clampRippleMaximum * r * s.switch.frequency * (1 - hand.targets.capacitorTolerance)), hand.targets.capacitorSeries, 'up');
-  const peakOf = (v: Verified): number => hand.deratedLimit - hand.allowance - v.corner.margin;
-  let parts = { r: hand.resistance, c: hand.capacitance, rs: hand.damper.resistance, cs: hand.damper.capacitance };
-  const adjustments: DesignResult['adjustments'] = [];
-  const notes = [...hand.notes];
-  let worst = verify(s, hand, hand.worstCase, parts, options.deadlineMs);
+  const runner = options.runner ?? ((options.workers ?? 0) > 0 ? processRunner(options.workers!) : inProcessRunner());
+  try {
+    return await designWith(s, hand, runner, options);
+  } finally {
+    if (!options.runner) await runner.close();
+  }
+}
 
-  // The formulas ignore the drain capacitance and the ring after the clamp: they can miss the
-  // limit either way. Step the resistor down while the worst case fails…
-  for (let n = 0; worst.corner.margin < 0 && n < MAX_ADJUSTMENT_STEPS; n++) {
-    const r = stepInSeries(parts.r, series, -1);
-    parts = { ...parts, r, c: capacitanceFor(r) };
-    worst = verify(s, hand, hand.worstCase, parts, options.deadlineMs);
-    adjustments.push({ resistance: r, capacitance: parts.c, worstCasePeak: peakOf(worst), reason: 'the simulated worst case exceeded the derated limit: clamp resistor one standard step down' });
+async function designWith(s: Scenario, hand: HandDesign, runner: DesignRunner, options: DesignOptions): Promise<DesignResult & { plots: DesignPlots }> {
+  const t = hand.targets;
+  const deadline = options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs };
+  const base = { drainDerating: t.drainDerating, ...deadline };
+  const notes = [...hand.notes];
+
+  // With the load given, each corner's current is the one that delivers it there. The bare
+  // circuit sets it (the clamp parts do not enter), so corners that differ only in the clamp's
+  // tolerances share one settling, and every corner settles side by side before the search.
+  const settleKey = (c: Corner): string => `${c.supplyVoltage}/${c.leakageInductance}/${c.drainCapacitanceFactor}`;
+  const settling = new Map<string, Promise<number>>();
+  for (const c of hand.corners.filter((x) => x.fromLoad)) {
+    if (settling.has(settleKey(c))) continue;
+    const placed = scenarioAtCorner(s, hand, c, { r: hand.resistance, c: hand.capacitance, rs: hand.damper.resistance, cs: hand.damper.capacitance });
+    settling.set(settleKey(c), runner.run({ ...base, scenario: placed, settle: true, variants: [] }).then((r) => r.peakCurrent!));
   }
-  // …and where the hand design passes, try one step up (less clamp loss) and keep it if it still passes.
-  if (adjustments.length === 0 && worst.corner.pass) {
-    const r = stepInSeries(parts.r, series, +1);
-    const trial = { ...parts, r, c: capacitanceFor(r) };
-    const tried = verify(s, hand, hand.worstCase, trial, options.deadlineMs);
-    if (tried.corner.pass) {
-      parts = trial;
-      worst = tried;
-      adjustments.push({ resistance: r, capacitance: trial.c, worstCasePeak: peakOf(tried), reason: 'the formulas were pessimistic here: one standard step up still keeps the simulated worst case under the derated limit, with less clamp loss' });
+  const settledCurrents = new Map<string, number>();
+  // All awaited together: a failed settling must not leave the others' failures unhandled.
+  const settledValues = await Promise.all(settling.values());
+  [...settling.keys()].forEach((k, i) => settledCurrents.set(k, settledValues[i]!));
+  const settledCorner = (c: Corner): Corner => (c.fromLoad ? { ...c, peakCurrent: settledCurrents.get(settleKey(c))! } : c);
+  const corners = hand.corners.map(settledCorner);
+  const worstCase = corners[hand.corners.indexOf(hand.worstCase)]!;
+  const place = (corner: Corner, parts: Parts): Scenario => scenarioAtCorner(s, hand, corner, parts);
+  const columns = options.traceColumns ?? DEFAULT_TRACE_COLUMNS;
+  // Every variant run of the design, once: the search's runs at the worst case serve the
+  // verification of the parts it chose. The clamp-alone and bare runs do not depend on the damper.
+  const runs = new Map<string, Promise<DesignRunSuccess>>();
+  const simulate = (corner: Corner, parts: Parts, variant: VariantName): Promise<DesignRunSuccess> => {
+    const key = [corner.name, variant, ...(variant === 'bare' ? [] : [parts.r, parts.c]), ...(variant === 'damped' ? [parts.rs, parts.cs] : [])].join('|');
+    let run = runs.get(key);
+    if (!run) {
+      run = runner.run({ ...base, scenario: place(corner, parts), variants: [variant], traceColumns: columns });
+      runs.set(key, run);
     }
+    return run;
+  };
+
+  const search = await searchCandidates({
+    scenario: s, hand, worstCase, withDampers: t.damper !== 'never',
+    simulate: async (parts, variant) => (await simulate(worstCase, parts, variant)).variants[variant]!,
+  });
+  const candidates = search.candidates;
+  const chosen = chooseCandidate(candidates, t.damper);
+  const fitted = chosen.damper !== null;
+  // Without a damper the designed one still runs at every corner, for comparison (and the plot).
+  const damper = { ...(chosen.damper ?? { resistance: hand.damper.resistance, capacitance: hand.damper.capacitance }) };
+  const searched: Parts = { r: chosen.clamp.resistance, c: chosen.clamp.capacitance, rs: damper.resistance, cs: damper.capacitance };
+  const adjustments: DesignResult['adjustments'] = [];
+  if (!chosen.handDesign) {
+    const what = chosen.pass ? 'the least loss among the preferred sets that pass at the worst case' : chosen.withinLimit ? 'no set passes the loss budget: the least loss among those under the limit' : 'no set keeps the worst case under the limit: the lowest peak';
+    adjustments.push({
+      resistance: searched.r, capacitance: searched.c, worstCasePeak: chosen.peakDrainVoltage,
+      reason: `${what} (${chosen.totalLoss.toFixed(3)} W, ${fitted ? `damper ${formatSi(damper.resistance, 'Ω')} with ${formatSi(damper.capacitance, 'F')}` : 'no damper'}; ${search.clampSets} clamp sets and ${search.candidates.length} candidates)`,
+    });
   }
-  if (!worst.corner.pass) notes.push(`After ${adjustments.length} resistor steps the worst case still exceeds the derated limit: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
-  // The cheapest parts that pass: neighbours of the chosen ones in the preferred series, with the
-  // designed damper, a smaller one, or none, tried at the worst case.
-  const candidates = searchCandidates(s, hand, parts, capacitanceFor, options.deadlineMs);
-  const cheapest = candidates.find((c) => c.pass && c.damper !== null);
-  if (cheapest && (cheapest.clamp.resistance !== parts.r || cheapest.damper!.capacitance !== parts.cs)) {
-    const trial = { r: cheapest.clamp.resistance, c: cheapest.clamp.capacitance, rs: cheapest.damper!.resistance, cs: cheapest.damper!.capacitance };
-    const tried = verify(s, hand, hand.worstCase, trial, options.deadlineMs);
-    if (tried.corner.pass) {
-      parts = trial;
-      worst = tried;
-      adjustments.push({ resistance: trial.r, capacitance: trial.c, worstCasePeak: peakOf(tried), reason: `the least loss among the preferred parts that pass at the worst case (${cheapest.totalLoss.toFixed(3)} W, damper ${trial.rs} Ω with ${(trial.cs * 1e12).toPrecision(3)} pF)` });
-    }
-  }
-  const noDamper = candidates.find((c) => c.pass && c.damper === null);
-  if (noDamper) notes.push(`Without a damper, clamp ${noDamper.clamp.resistance} Ω with ${(noDamper.clamp.capacitance * 1e9).toPrecision(3)} nF also passes at the worst case, at ${noDamper.totalLoss.toFixed(3)} W: the damper can be left out if the ring after the clamp is acceptable (verify the other corners with simulate).`);
-  // Every other corner with the parts chosen at the worst case.
-  // The bare circuit at the final worst case, for the plot and the table.
-  const bare = runVariant(worst.at, 'bare', options.deadlineMs === undefined ? {} : { deadlineMs: options.deadlineMs });
-  worst = { ...worst, runs: [bare, ...worst.runs] };
-  worst.corner.variants = simulationReport(worst.at, worst.runs, hand.targets.drainDerating).variants;
-  const verified = hand.corners.map((corner) => (corner === hand.worstCase ? worst : verify(s, hand, corner, parts, options.deadlineMs)));
-  const nominal = verified[hand.corners.indexOf(hand.nominal)]!;
-  for (const { corner: c } of verified) {
-    const unsettled = (['clamp', 'damped'] as const).filter((v) => !c.variants[v]!.settled);
+  // A resistor split into equal preferred parts is verified at the total actually built (2 × 41.2 Ω
+  // is 82.4 Ω, not 82 Ω): the arrangement comes from the worst case's power and voltage.
+  const [wcClamp, wcDamped] = await Promise.all([simulate(worstCase, searched, 'clamp'), simulate(worstCase, searched, 'damped')]);
+  const clampAlone = wcClamp.variants.clamp!, damped = wcDamped.variants.damped!;
+  const ambientCelsius = t.ambientTemperature;
+  const clampBuild = resistorBuild(searched.r, { power: clampAlone.clampResistorPower!, voltage: clampAlone.clampVoltageMean! + clampAlone.clampVoltageRipple! / 2, ambientCelsius }, t.resistorSeries);
+  const damperBuild = resistorBuild(searched.rs, { power: damped.damperResistorPower!, voltage: damped.peakDrainVoltage, ambientCelsius }, t.resistorSeries);
+  const parts: Parts = { ...searched, r: clampBuild.total, rs: damperBuild.total };
+  const splitAdjustment = parts.r === searched.r ? null : adjustments[adjustments.push({ resistance: parts.r, capacitance: parts.c, worstCasePeak: chosen.peakDrainVoltage, reason: `the clamp resistor is built as ${clampBuild.count} × ${formatSi(clampBuild.perResistor, 'Ω')} = ${formatSi(parts.r, 'Ω')}: every corner is verified at that total` }) - 1]!;
+  damper.resistance = parts.rs;
+
+  // Every corner with the chosen parts, each variant its own task so that the workers share them evenly.
+  const verified = await Promise.all(corners.map(async (corner) => {
+    const variants: VariantName[] = corner === worstCase ? ['bare', 'clamp', 'damped'] : ['clamp', 'damped'];
+    const results = await Promise.all(variants.map((v) => simulate(corner, parts, v)));
+    const metrics: SimulationReport['variants'] = Object.assign({}, ...results.map((r) => r.variants));
+    const traces: Partial<Record<VariantName, DrainTraces>> = Object.assign({}, ...results.map((r) => r.traces ?? {}));
+    // The verdict is on the circuit built: with a damper, the clamp alone must pass too (the damper only lowers it).
+    const judged = fitted ? [metrics.clamp!, metrics.damped!] : [metrics.clamp!];
+    const worst = Math.max(...judged.map((m) => m.peakDrainVoltage));
+    const limit = hand.deratedLimit - hand.allowance;
+    const verification: CornerVerification = { conditions: corner, variants: metrics, pass: judged.every((m) => m.settled) && worst <= limit, margin: limit - worst };
+    return { verification, traces };
+  }));
+  const worst = verified[corners.indexOf(worstCase)]!;
+  if (splitAdjustment) splitAdjustment.worstCasePeak = hand.deratedLimit - hand.allowance - worst.verification.margin;
+  const nominal = verified[corners.indexOf(corners[hand.corners.indexOf(hand.nominal)]!)]!;
+  for (const { verification: c } of verified) {
+    const unsettled = (fitted ? (['clamp', 'damped'] as const) : (['clamp'] as const)).filter((v) => !c.variants[v]!.settled);
     if (unsettled.length > 0) notes.push(`At the corner "${c.conditions.name}" the ${unsettled.join(' and ')} variant did not settle (${unsettled.map((v) => c.variants[v]!.orbit).join(', ')}): the corner cannot pass until it does (fixed duty in continuous conduction at high line, or peak-current control above 50 % duty).`);
   }
-  const corners: CornerReport[] = verified.map(({ corner: c }) => ({
+  const cornerReports: CornerReport[] = verified.map(({ verification: c }) => ({
     name: c.conditions.name,
     inputVoltage: c.conditions.supplyVoltage,
     leakageInductance: c.conditions.leakageInductance,
@@ -234,84 +268,72 @@ export function designClamp(s: Scenario, options: DesignOptions = {}): DesignRes
     peakDrainVoltage: hand.deratedLimit - hand.allowance - c.margin,
     pass: c.pass,
   }));
-  const limiting = verified.reduce((a, b) => (b.corner.margin < a.corner.margin ? b : a)).corner;
-  const losses = lossVerdict(hand, verified.map((v) => v.corner));
+  const limiting = verified.reduce((a, b) => (b.verification.margin < a.verification.margin ? b : a));
+  const losses = lossVerdict(hand, verified.map((v) => v.verification), fitted);
   if (!(losses.outputPower > 0)) notes.push(`The circuit delivers no power at the corner "${losses.corner}": check the scenario's values (the warnings name the unusual ones).`);
-  else if (!losses.pass) notes.push(`Clamp and damper dissipate ${losses.total.toFixed(2)} W at the corner "${losses.corner}", ${(100 * losses.share).toFixed(1)} % of the ${losses.outputPower.toFixed(2)} W output, over the budget of ${losses.budget!.toFixed(2)} W (design.lossBudget): a lower leakage inductance, a higher reflected voltage or a smaller damper capacitor lowers it.`);
+  else if (!losses.pass) notes.push(`Clamp${fitted ? ' and damper' : ''} dissipate${fitted ? '' : 's'} ${losses.total.toFixed(2)} W at the corner "${losses.corner}", ${(100 * losses.share).toFixed(1)} % of the ${losses.outputPower.toFixed(2)} W output, over the budget of ${losses.budget!.toFixed(2)} W (design.lossBudget): a lower leakage inductance, a higher reflected voltage${fitted ? ' or a smaller damper capacitor' : ''} lowers it.`);
+  if (!chosen.withinLimit) notes.push(`No preferred set keeps the worst case under the derated limit less the allowance: a larger clamp capacitor, a lower leakage inductance or a higher-rated transistor is needed.`);
 
-  const stresses = partStresses(s, hand, parts, worst.corner);
-  const damperPower = worst.corner.variants.damped!.damperResistorPower!;
-  const clampPower = worst.corner.variants.clamp!.clampResistorPower!;
-  if (damperPower > clampPower) {
+  const noDamper = candidates.find((c) => c.pass && c.damper === null);
+  if (!fitted) {
+    notes.push(t.damper === 'never'
+      ? 'No damper (design.damper "never"): the ring after the clamp is left undamped; the designed damper is simulated at every corner for comparison only.'
+      : `No damper: the least-loss set ${chosen.pass ? 'that passes' : 'found'} has none, as a damper adds its Cs·V²·fsw to the loss and the clamp alone already sets the peak. The ring after the clamp is left undamped (the designed damper is simulated at every corner for comparison); set design.damper to "always" to fit one.`);
+  } else if (noDamper && noDamper.totalLoss < chosen.totalLoss) {
+    notes.push(`Without a damper, clamp ${formatSi(noDamper.clamp.resistance, 'Ω')} with ${formatSi(noDamper.clamp.capacitance, 'F')} also passes at the worst case, at ${noDamper.totalLoss.toFixed(3)} W${t.damper === 'always' ? ' (design.damper "always" keeps the damper)' : ''}.`);
+  }
+
+  const stresses = partStresses(s, hand, parts, worst.verification, fitted);
+  const damperPower = worst.verification.variants.damped!.damperResistorPower!;
+  const clampPower = worst.verification.variants.clamp!.clampResistorPower!;
+  if (fitted && damperPower > clampPower) {
     notes.push(`The damper dissipates ${damperPower.toFixed(2)} W at the worst case, more than the clamp (${clampPower.toFixed(2)} W): its loss grows with Cs·V²; a smaller damper capacitor trades ring damping for loss.`);
   }
   return {
     scenario: s.name,
     hand,
     clamp: { resistance: parts.r, capacitance: parts.c, diodeDrop: hand.clampDiodeDrop },
-    damper: { resistance: parts.rs, capacitance: parts.cs },
+    damper,
+    damperFitted: fitted,
     adjustments,
     stresses,
-    verification: { worstCase: worst.corner, nominal: nominal.corner },
+    verification: { worstCase: worst.verification, nominal: nominal.verification },
     allowance: hand.allowance,
-    corners,
-    limitingCorner: limiting.conditions.name,
+    corners: cornerReports,
+    limitingCorner: limiting.verification.conditions.name,
     losses,
     candidates,
-    pass: verified.every((v) => v.corner.pass) && losses.pass,
+    chosenCandidate: candidates.indexOf(chosen),
+    search: { clampSets: search.clampSets, simulations: runs.size + settling.size, rounds: search.rounds, workers: runner.workers },
+    pass: verified.every((v) => v.verification.pass) && losses.pass,
     notes,
-    worstCaseRuns: worst.runs,
+    plots: { worstCase: worst.traces, limiting: { corner: limiting.verification.conditions.name, traces: limiting.traces } },
   };
 }
 
-/**
- * Every combination of the chosen clamp resistor and the next preferred value up (the capacitor
- * following by the ripple rule) with the designed damper, its capacitor one preferred step smaller,
- * or none, at the worst case. The clamp-alone run does not depend on the
- * damper, so each resistor costs one clamp run and one damped run per damper.
- */
-function searchCandidates(s: Scenario, hand: HandDesign, parts: { r: number; c: number; rs: number; cs: number }, capacitanceFor: (r: number) => number, deadlineMs?: number): Candidate[] {
-  const t = hand.targets;
-  const options = deadlineMs === undefined ? {} : { deadlineMs };
-  const limit = hand.deratedLimit - hand.allowance;
-  // The adjustments above already moved the resistor down where the worst case needed it.
-  const resistors = [parts.r, stepInSeries(parts.r, t.resistorSeries, +1)];
-  const dampers: Array<{ resistance: number; capacitance: number } | null> = [
-    { resistance: parts.rs, capacitance: parts.cs },
-    { resistance: parts.rs, capacitance: stepInSeries(parts.cs, t.capacitorSeries, -1) },
-    null,
-  ];
-  const budgetFor = (outputPower: number): number => (t.lossBudget.kind === 'absolute' ? t.lossBudget.value : t.lossBudget.value * outputPower);
-  const out: Candidate[] = [];
-  for (const r of resistors) {
-    const c = capacitanceFor(r);
-    const base = scenarioAtCorner(s, hand, hand.worstCase, { r, c, rs: parts.rs, cs: parts.cs });
-    const at = hand.worstCase.fromLoad ? settleOperatingPoint(base, options).scenario : base;
-    const clampAlone = simulationReport(at, [runVariant(at, 'clamp', options)]).variants.clamp!;
-    for (const damper of dampers) {
-      let peak = clampAlone.peakDrainVoltage, loss = (clampAlone.clampResistorPower ?? 0) + (clampAlone.clampDiodePower ?? 0);
-      let settled = clampAlone.settled, outputPower = clampAlone.outputPower;
-      if (damper) {
-        const withDamper: Scenario = { ...at, damper };
-        const m = simulationReport(withDamper, [runVariant(withDamper, 'damped', options)]).variants.damped!;
-        peak = Math.max(peak, m.peakDrainVoltage);
-        loss = (m.clampResistorPower ?? 0) + (m.clampDiodePower ?? 0) + (m.damperResistorPower ?? 0);
-        settled &&= m.settled;
-        outputPower = m.outputPower;
-      }
-      out.push({
-        clamp: { resistance: r, capacitance: c }, damper, peakDrainVoltage: peak, totalLoss: loss,
-        pass: settled && peak <= limit && outputPower > 0 && loss <= budgetFor(outputPower), partsCount: damper ? 4 : 2,
-      });
-    }
-  }
-  return out.sort((a, b) => a.totalLoss - b.totalLoss);
+/** The few best candidates, and the hand design (the starting point) wherever it ranks. */
+export function shownCandidates(d: DesignResult, count = 6): DesignResult['candidates'] {
+  const best = d.candidates.slice(0, count);
+  const chosen = d.candidates[d.chosenCandidate];
+  const more = d.candidates.filter((c) => (c.handDesign || c === chosen) && !best.includes(c));
+  return [...best, ...more];
 }
 
-/** The loss of the built design (clamp and damper fitted) at the corner where it is highest, against the budget. */
-function lossVerdict(hand: HandDesign, corners: readonly CornerVerification[]): LossVerdict {
+/**
+ * The design's parts: the least-loss candidate that passes, among those the damper choice allows;
+ * when none passes, the least loss under the limit (the loss budget fails), else the lowest peak.
+ */
+export function chooseCandidate(candidates: readonly Candidate[], choice: DamperChoice): Candidate {
+  const allowed = candidates.filter((c) => choice === 'least-loss' || (choice === 'always') === (c.damper !== null));
+  const pool = allowed.length > 0 ? allowed : [...candidates];
+  const byLoss = [...pool].sort((a, b) => a.totalLoss - b.totalLoss);
+  return byLoss.find((c) => c.pass) ?? byLoss.find((c) => c.withinLimit) ?? [...pool].sort((a, b) => a.peakDrainVoltage - b.peakDrainVoltage)[0]!;
+}
+
+/** The loss of the built design (the damper only when fitted) at the corner where it is highest, against the budget. */
+function lossVerdict(hand: HandDesign, corners: readonly CornerVerification[], damperFitted: boolean): LossVerdict {
   const of = (c: CornerVerification) => {
-    const m = c.variants.damped!;
+    const m = damperFitted ? c.variants.damped! : c.variants.clamp!;
     const clamp = (m.clampResistorPower ?? 0) + (m.clampDiodePower ?? 0);
     const damper = m.damperResistorPower ?? 0;
     return { clamp, damper, total: clamp + damper, outputPower: m.outputPower, corner: c.conditions.name };
@@ -324,7 +346,7 @@ function lossVerdict(hand: HandDesign, corners: readonly CornerVerification[]): 
   return { ...worst, share, budget, pass: worst.outputPower > 0 && worst.total <= budget };
 }
 
-function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: number; rs: number; cs: number }, worst: CornerVerification): PartStress[] {
+function partStresses(s: Scenario, hand: HandDesign, parts: Parts, worst: CornerVerification, damperFitted: boolean): PartStress[] {
   const clamp = worst.variants.clamp!;
   const damped = worst.variants.damped!;
   const ambient = hand.targets.ambientTemperature;
@@ -362,7 +384,8 @@ function partStresses(s: Scenario, hand: HandDesign, parts: { r: number; c: numb
   ].map((p: PartStress) => {
     const a = p.arrangement;
     const split = a && a.ok && a.count > 1 ? { preferredPerResistor: preferredSplit(p.value, a.count, hand.targets.resistorSeries) } : {};
-    const note = s.clamp || p.part !== 'clamp diode' ? p.note : `${p.note}; diode drop assumed 1.0 V (no clamp block in the scenario)`;
+    let note = s.clamp || p.part !== 'clamp diode' ? p.note : `${p.note}; diode drop assumed 1.0 V (no clamp block in the scenario)`;
+    if (!damperFitted && p.part.startsWith('damper')) note = `not fitted: the designed damper, should one be fitted${note ? `; ${note}` : ''}`;
     return { ...p, ...split, ...(note ? { note } : {}) };
   });
 }

@@ -181,11 +181,18 @@ export class ProcessPool<Task, Result> {
 export function serveProcessTasks<Task, Result>(handle: (task: Task) => Result): void {
   process.on('SIGINT', () => undefined);
   process.on('disconnect', () => process.exit(0));
+  // A parent that left while a task ran (a design stopped at its deadline) cannot be answered: the
+  // answer is dropped quietly instead of an EPIPE stack trace on the user's terminal.
+  const answer = (reply: { id: number; result?: Result; error?: string }): void => {
+    if (process.connected) process.send!(reply, undefined, {}, () => undefined);
+  };
   process.on('message', (message: { id: number; task: Task }) => {
+    let reply: { id: number; result?: Result; error?: string };
     try {
-      process.send!({ id: message.id, result: handle(message.task) });
+      reply = { id: message.id, result: handle(message.task) };
     } catch (error) {
-      process.send!({ id: message.id, error: (error as Error).message });
+      reply = { id: message.id, error: (error as Error).message };
     }
+    answer(reply);
   });
 }

@@ -15,6 +15,7 @@ import { scenarioToJson } from '../../src/circuit/scenario-json.js';
 import { gridPoints } from '../../src/study/study-points.js';
 import { fitBench } from './fit-capture.js';
 import { monteCarloBench } from './monte-carlo.js';
+import { designBench } from './design.js';
 // The compiled study runner (npm run bench builds first), so that its workers load compiled code
 // as the CLI's do: under tsx each worker would first load and transpile the sources.
 const compiledStudy = '../../dist/study/run-study.js';
@@ -149,5 +150,6 @@ if (!process.argv.includes('--scenarios')) {
   allMet = (await sweepBench()) && allMet;
   allMet = (await fitBench()) && allMet;
   allMet = (await monteCarloBench()) && allMet;
+  allMet = (await designBench()) && allMet;
 }
 console.log(`\n${allMet ? 'all targets met' : 'some targets MISSED'}`);

@@ -350,7 +350,7 @@ describe('validateScenario on the design block', () => {
     const result = validateScenario(raw);
     expect(result.ok && result.scenario.design).toEqual({
       leakageTolerance: 0.2, drainDerating: 0.8, clampRippleMinimum: 0.05, clampRippleMaximum: 0.1,
-      resistorSeries: 'E24', capacitorSeries: 'E12', ambientTemperature: 50, damperCapacitanceRatio: 4,
+      resistorSeries: 'E24', capacitorSeries: 'E12', ambientTemperature: 50, damperCapacitanceRatio: 4, damper: 'least-loss',
       voltageAllowance: { kind: 'fraction', value: 0.03 }, lossBudget: { kind: 'fraction', value: 0.1 },
       resistorTolerance: 0.05, capacitorTolerance: 0.1, peakCurrentTolerance: 0.07, drainCapacitanceTolerance: 0.1,
     });
@@ -358,6 +358,7 @@ describe('validateScenario on the design block', () => {
 
   it.each([
     [{ resistorSeries: 'E6' }, 'design.resistorSeries', /expected one of E12, E24, E96, found "E6"/],
+    [{ damper: 'sometimes' }, 'design.damper', /expected one of least-loss, always, never, found "sometimes"/],
     [{ leakageTolerance: 2 }, 'design.leakageTolerance', /expected a value from 0 to 0.9, found 2/],
     [{ drainDerating: '80%' }, 'design.drainDerating', /expected a number, found "80%"/],
     [{ clampRippleMinimum: 0.2, clampRippleMaximum: 0.1 }, 'design.clampRippleMinimum', /at most design.clampRippleMaximum/],
