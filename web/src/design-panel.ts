@@ -112,10 +112,15 @@ function drawDesign(data: DesignAnswer, scenario: Record<string, unknown>): void
   };
   $('#design-parts').replaceChildren(
     block('clamp', 'RCD clamp', part('clamp.resistance', 'Resistor', d.clamp.resistance, 'Ω'), part('clamp.capacitance', 'Capacitor', d.clamp.capacitance, 'F'), part('clamp.diodeDrop', 'Diode drop', d.clamp.diodeDrop, 'V')),
-    block('damped', 'RC damper', part('damper.resistance', 'Resistor', d.damper.resistance, 'Ω'), part('damper.capacitance', 'Capacitor', d.damper.capacitance, 'F')),
+    d.damperFitted
+      ? block('damped', 'RC damper', part('damper.resistance', 'Resistor', d.damper.resistance, 'Ω'), part('damper.capacitance', 'Capacitor', d.damper.capacitance, 'F'))
+      : el('div', { class: 'part-block', dataset: { block: 'damper', fitted: 'false' } }, el('h4', { text: 'No RC damper' }),
+        el('p', { class: 'muted', text: `The clamp alone passes with less loss. The damper designed for comparison, ${fmtSi(d.damper.resistance, 'Ω', 3)} + ${fmtSi(d.damper.capacitance, 'F', 3)}, is in the “damped” column below.` })),
   );
   const note = $('#design-use-note');
-  note.textContent = 'Loads these parts into the form and switches the clamp and the damper on; the page then simulates them at the scenario’s own conditions.';
+  note.textContent = d.damperFitted
+    ? 'Loads these parts into the form and switches the clamp and the damper on; the page then simulates them at the scenario’s own conditions.'
+    : 'Loads the clamp into the form and switches it on, and the damper off; the page then simulates them at the scenario’s own conditions.';
   note.classList.remove('done');
 
   // How the parts were chosen.
@@ -166,16 +171,15 @@ function drawDesign(data: DesignAnswer, scenario: Record<string, unknown>): void
 
 function useDesignParts(): void {
   if (!state.design) return;
-  const { clamp, damper } = state.design.data.design;
+  const { clamp, damper, damperFitted } = state.design.data.design;
   const values: Record<string, string> = {
     'clamp.resistance': siForForm(clamp.resistance),
     'clamp.capacitance': siForForm(clamp.capacitance),
     'clamp.diodeDrop': String(Number(clamp.diodeDrop.toPrecision(12))),
-    'damper.resistance': siForForm(damper.resistance),
-    'damper.capacitance': siForForm(damper.capacitance),
+    ...(damperFitted ? { 'damper.resistance': siForForm(damper.resistance), 'damper.capacitance': siForForm(damper.capacitance) } : {}),
   };
   blockBox('clamp').checked = true;
-  blockBox('damper').checked = true;
+  blockBox('damper').checked = damperFitted;
   syncBlocks();
   for (const [path, text] of Object.entries(values)) {
     const input = inputFor(path)!;
@@ -185,7 +189,8 @@ function useDesignParts(): void {
   }
   hooks.edited();
   const note = $('#design-use-note');
-  note.textContent = `In the form: clamp ${fmtSi(clamp.resistance, 'Ω', 3)} ∥ ${fmtSi(clamp.capacitance, 'F', 3)}, diode ${fmtSi(clamp.diodeDrop, 'V', 3)}; damper ${fmtSi(damper.resistance, 'Ω', 3)} + ${fmtSi(damper.capacitance, 'F', 3)}. The page simulates them at the scenario’s conditions.`;
+  const damperText = damperFitted ? `damper ${fmtSi(damper.resistance, 'Ω', 3)} + ${fmtSi(damper.capacitance, 'F', 3)}` : 'no damper';
+  note.textContent = `In the form: clamp ${fmtSi(clamp.resistance, 'Ω', 3)} ∥ ${fmtSi(clamp.capacitance, 'F', 3)}, diode ${fmtSi(clamp.diodeDrop, 'V', 3)}; ${damperText}. The page simulates them at the scenario’s conditions.`;
   note.classList.add('done');
 }
 
