@@ -76,7 +76,9 @@ function turnOffFrame(traces: readonly PlotTrace[], corner: string): PlotFrame {
 /** Leaves of the scenario file as written: "60u" stays "60u", a curve stays its list. */
 function asWritten(raw: unknown, path = ''): Array<[string, string]> {
   if (raw !== null && typeof raw === 'object' && !Array.isArray(raw)) {
-    return Object.entries(raw as Record<string, unknown>).flatMap(([k, v]) => asWritten(v, path ? `${path}.${k}` : k));
+    // "$schema" points an editor at the JSON Schema: not an input of the design.
+    return Object.entries(raw as Record<string, unknown>).filter(([k]) => k !== '$schema')
+      .flatMap(([k, v]) => asWritten(v, path ? `${path}.${k}` : k));
   }
   return [[path, typeof raw === 'string' ? raw : JSON.stringify(raw)]];
 }
