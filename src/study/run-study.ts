@@ -24,7 +24,7 @@ export interface StudyRun {
 }
 
 export interface StudyOptions {
-  /** Worker processes (default one per core); 0 runs the points one after another in this process. */
+  /** Worker processes (default one per core, or none for SMALL_STUDY_POINTS points or fewer); 0 runs the points one after another in this process. */
   workers?: number;
   /** A pool to use (and keep) instead of one made for this study, e.g. a warm one. */
   pool?: StudyPool;
@@ -51,6 +51,9 @@ export function createStudyPool(workers?: number): StudyPool {
  * Such a point reports orbit 'cycle-cap' (not settled).
  */
 export const STUDY_POINT_CYCLE_BUDGET = 150;
+
+/** Points a study runs in this process unless told otherwise (measured: two worker processes take about 0.6 s to start). */
+export const SMALL_STUDY_POINTS = 2;
 
 export function scenarioAtPoint(base: ScenarioJson, values: PointValues): ScenarioJson {
   let json = base;
@@ -104,7 +107,10 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
   };
 
   async function runPoints(): Promise<void> {
-    if (!options.pool && (options.workers ?? 1) === 0) {
+    // A small study runs here: starting worker processes (loading the code, the JIT's first runs)
+    // costs more than its points. Asked for workers, or given a pool, it uses them.
+    const inProcess = !options.pool && (options.workers ?? (total <= SMALL_STUDY_POINTS ? 0 : 1)) === 0;
+    if (inProcess) {
       for (let i = 0; i < total && !stop.signal.aborted; i++) {
         record(i, runPointTask({ scenarioJson: scenarioAt(i), ...deadline }));
         await new Promise<void>((ok) => setImmediate(ok)); // let a Ctrl-C through between points
