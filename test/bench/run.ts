@@ -16,6 +16,7 @@ import { gridPoints } from '../../src/study/study-points.js';
 import { fitBench } from './fit-capture.js';
 import { monteCarloBench } from './monte-carlo.js';
 import { designBench } from './design.js';
+import { pageBench } from './page.js';
 // The compiled study runner (npm run bench builds first), so that its workers load compiled code
 // as the CLI's do: under tsx each worker would first load and transpile the sources.
 const compiledStudy = '../../dist/study/run-study.js';
@@ -137,19 +138,20 @@ async function sweepBench(): Promise<boolean> {
 const files = readdirSync('scenarios').filter((f) => f.endsWith('.json') && !f.endsWith('.schema.json')).sort().map((f) => `scenarios/${f}`);
 console.log(`flyclamp benchmark: medians of ${REPEATS} runs, one core; targets: < ${TARGET_SCENARIO_SECONDS} s per demo scenario (all variants), ≤ ${TARGET_EVALUATIONS_PER_PERIOD} evaluations per period with ideal parts, real parts ≤ ${TARGET_REAL_PARTS_RATIO}× the constant-part time on odex`);
 let allMet = true;
-if (process.argv.includes('--monte-carlo')) {
-  const met = await monteCarloBench();
+if (process.argv.includes('--monte-carlo') || process.argv.includes('--page')) {
+  const met = process.argv.includes('--page') ? await pageBench() : await monteCarloBench();
   console.log(`\n${met ? 'all targets met' : 'some targets MISSED'}`);
   process.exit(0);
 }
 for (const file of files) allMet = (await scenarioBench(file)).ok && allMet;
 // `npm run bench -- --scenarios`: the per-scenario table alone (a minute instead of several);
-// `-- --monte-carlo`: the Monte Carlo target alone.
+// `-- --monte-carlo` or `-- --page`: that target alone.
 if (!process.argv.includes('--scenarios')) {
   allMet = memoryBench() && allMet;
   allMet = (await sweepBench()) && allMet;
   allMet = (await fitBench()) && allMet;
   allMet = (await monteCarloBench()) && allMet;
   allMet = (await designBench()) && allMet;
+  allMet = (await pageBench()) && allMet;
 }
 console.log(`\n${allMet ? 'all targets met' : 'some targets MISSED'}`);
