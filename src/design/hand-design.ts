@@ -37,6 +37,8 @@ export interface HandDesign {
   leakageInductance: number;
   extracted?: { drainCapacitance: number; leakageInductance: number; characteristicImpedance: number };
   reflectedVoltage: number;
+  /** switch.voltageRating, V: the page draws it and the derated limit from the answer, not from margins. */
+  voltageRating: number;
   deratedLimit: number;
   worstCase: Corner;
   nominal: Corner;
@@ -165,7 +167,7 @@ export function handDesign(s: Scenario): HandDesign {
 
   return {
     targets, drainCapacitance: coss, leakageInductance: llk, ...(extracted ? { extracted } : {}),
-    reflectedVoltage: vr, deratedLimit, worstCase, nominal, corners, allowance, clampDiodeDrop: vf,
+    reflectedVoltage: vr, voltageRating: s.switch.voltageRating, deratedLimit, worstCase, nominal, corners, allowance, clampDiodeDrop: vf,
     clampVoltageTarget: vcTarget, resistanceExact: rExact, resistance: r, capacitanceExact: cExact, capacitance: c,
     damper: { resistanceExact: damperExact.resistance, capacitanceExact: damperExact.capacitance, resistance: rs, capacitance: cs, lossPower: damperLoss, voltageStep },
     equations, notes,

@@ -13,6 +13,9 @@ export interface StudyPoint {
   index: number;
   values: PointValues;
   variants?: SimulationReport['variants'];
+  /** This point's rating and derated limit, V (a study may vary the rating or the derating itself). */
+  voltageRating?: number;
+  deratedLimit?: number;
   failure?: string;
 }
 
@@ -80,7 +83,7 @@ export async function runStudy(base: ScenarioJson, pointValues: readonly PointVa
     if (stop.signal.aborted) return; // finished as the study stopped: its result may be a stop artefact
     const values = pointValues[index]!;
     if (result.ok) {
-      points[index] = { index, values, variants: result.report.variants };
+      points[index] = { index, values, variants: result.report.variants, voltageRating: result.report.voltageRating, deratedLimit: result.report.deratedLimit };
     } else {
       points[index] = { index, values, failure: result.failure };
       failed++;

@@ -46,7 +46,7 @@ function cliSeconds(file: string): { seconds: number; workers: number; summary: 
 }
 
 export async function designBench(): Promise<boolean> {
-  const files = readdirSync('scenarios').filter((f) => f.endsWith('.json')).sort().map((f) => `scenarios/${f}`);
+  const files = readdirSync('scenarios').filter((f) => f.endsWith('.json') && !f.endsWith('.schema.json')).sort().map((f) => `scenarios/${f}`);
   const workers = availableParallelism();
   console.log(`\nflyclamp design, every bundled scenario, medians of ${REPEATS}: the CLI in a fresh process (target ≤ ${TARGET_DESIGN_SECONDS} s), and the design's simulations one after another in one process against ${workers} worker processes`);
   let allMet = true;

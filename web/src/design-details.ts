@@ -13,10 +13,9 @@ type Design = DesignAnswer['design'];
 
 const DESIGN_LABELS = { bare: 'bare · no clamp', clamp: 'clamp · the designed RCD clamp', damped: 'damped · clamp + the designed RC damper' } as const;
 
-/** The rating: the answer gives each peak and its margin to the rating. */
+/** The rating, as the answer gives it. */
 export function designRating(d: Design): number {
-  const bare = d.verification.worstCase.variants.bare ?? d.verification.worstCase.variants.clamp!;
-  return Number((bare.peakDrainVoltage + bare.marginToRating).toPrecision(10));
+  return d.hand.voltageRating;
 }
 
 export function drawDesignDetails(data: DesignAnswer): void {

@@ -16,11 +16,9 @@ export function studyVariantLabel(v: VariantName, points: readonly StudyPoint[])
   return first?.variants ? variantLabel(v, first.variants) : v;
 }
 
-/** Rating and derated limit at a point, from its own margins (they follow a varied rating). */
+/** Rating and derated limit at a point, as the answer gives them (they follow a varied rating). */
 export function limitsAt(point: StudyPoint | undefined, data: SweepAnswer): { rating: number; derated: number } {
-  const m = point?.variants && Object.values(point.variants).find(Boolean);
-  if (!m) return { rating: data.voltageRating, derated: data.deratedLimit };
-  return { rating: m.peakDrainVoltage + m.marginToRating, derated: m.peakDrainVoltage + m.marginToDeratedLimit };
+  return { rating: point?.voltageRating ?? data.voltageRating, derated: point?.deratedLimit ?? data.deratedLimit };
 }
 
 
