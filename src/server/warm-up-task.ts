@@ -1,7 +1,8 @@
 // A worker thread's first simulation is several times slower than the next (module loading and
 // the JIT). The server runs this one in each thread as it starts, so the page's first request
 // finds the threads warm: a small invented circuit with the real parts' code paths (a Coss curve,
-// a clamp loop, reverse recovery, a damper), one short recorded cycle.
+// avalanche, turn-off delay and current fall, a clamp loop, reverse and forward recovery, a
+// damper), one short recorded cycle.
 
 import { validateScenario } from '../circuit/validate-scenario.js';
 import { availableVariants } from '../circuit/scenario.js';
@@ -13,8 +14,14 @@ const WARM_UP_SCENARIO = {
   supply: { voltage: 20 },
   transformer: { magnetizingInductance: '30u', leakageInductance: '600n', turnsRatio: 2, primaryResistance: '0.1' },
   output: { voltage: 5, diodeDrop: 0.4 },
-  switch: { frequency: '300k', peakCurrent: 0.6, drainCapacitance: [[0, '600p'], [20, '200p'], [60, '120p']], onResistance: '0.1', voltageRating: 60 },
-  clamp: { resistance: '2.2k', capacitance: '10n', diodeDrop: 0.8, loopInductance: '4n', loopResistance: 0.5, diodeRecoveryTime: '30n' },
+  switch: {
+    frequency: '300k', peakCurrent: 0.6, drainCapacitance: [[0, '600p'], [20, '200p'], [60, '120p']], onResistance: '0.1', voltageRating: 60,
+    avalancheVoltage: 70, turnOffDelay: '40n', currentFallTime: '10n',
+  },
+  clamp: {
+    resistance: '2.2k', capacitance: '10n', diodeDrop: 0.8, loopInductance: '4n', loopResistance: 0.5, diodeRecoveryTime: '30n',
+    diodeForwardRecoveryVoltage: 2, diodeForwardRecoveryTime: '20n',
+  },
   damper: { resistance: 47, capacitance: '470p' },
   simulation: { recordedCycles: 1, samplesPerCycle: 200 },
 };
