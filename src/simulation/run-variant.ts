@@ -276,6 +276,9 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   };
 
 
+  // The devices' state a cycle starts in (what runCycle keeps of the previous cycle's end): the
+  // period map the shooting solves is smooth only while it stays the same.
+  const startKey = (m: Mode): string => `${m.outputDiodeOn}/${m.drain === 'clamp' ? 'off' : m.clampDiode}`;
   // A doubtful orbit (the shooting's Jacobian estimate has a multiplier near or above 1) is tried:
   // the primary current at the period start is nudged and three plain cycles must bring it back.
   // Peak-current control above 50 % duty in CCM has an orbit that repels it (a subharmonic).
@@ -290,8 +293,6 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     return startKey(mode) === startKey(startMode) && distance(x) < before;
   };
   const extrapolator = new SettlingExtrapolator(scales, options.extrapolate ?? true);
-  // One period from a given start in a given devices' state: the map the shooting solves.
-  const startKey = (m: Mode): string => `${m.outputDiodeOn}/${m.drain === 'clamp' ? 'off' : m.clampDiode}`;
   let shootAfter = (options.extrapolate ?? true) && options.exactCycles === undefined ? SHOOTING_WARM_UP_CYCLES : Infinity;
   let finalChange: number | null = null;
   while (verdict === null) {

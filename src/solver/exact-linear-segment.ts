@@ -92,7 +92,8 @@ export class ExactLinearSegmentIntegrator implements SegmentIntegrator {
   private readonly maxSteps: number;
   private readonly modeRates = new WeakMap<AffineSystem, NaturalRates>();
   private readonly steps = new WeakMap<AffineSystem, Map<number, ModeStep>>();
-  private readonly rates = new WeakMap<AffineSystem, Map<(x: ArrayLike<number>) => number, EventRate | null>>();
+  /** Each event function's rate form, per mode (null where the function is not affine). */
+  private readonly eventRateForms = new WeakMap<AffineSystem, Map<(x: ArrayLike<number>) => number, EventRate | null>>();
 
   constructor(settings: ExactLinearSettings) {
     this.nonlinear = settings.nonlinear;
@@ -128,8 +129,8 @@ export class ExactLinearSegmentIntegrator implements SegmentIntegrator {
   }
 
   private eventRates(system: AffineSystem, events: SegmentProblem['events']): Array<EventRate | null> {
-    let bySystem = this.rates.get(system);
-    if (!bySystem) { bySystem = new Map(); this.rates.set(system, bySystem); }
+    let bySystem = this.eventRateForms.get(system);
+    if (!bySystem) { bySystem = new Map(); this.eventRateForms.set(system, bySystem); }
     return events.map((g) => {
       let rate = bySystem.get(g);
       if (rate === undefined) { rate = eventRate(g, system); bySystem.set(g, rate); }

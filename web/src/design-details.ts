@@ -9,14 +9,7 @@ import { react, type PlotSpec } from './plotly.js';
 import { AXIS, BASE_LAYOUT, COLOURS, describePlot, LEGEND_ON_TOP, limitLevels, plotConfig, US, VARIANTS } from './plot-style.js';
 import { fmtMargin } from './format.js';
 
-type Design = DesignAnswer['design'];
-
 const DESIGN_LABELS = { bare: 'bare · no clamp', clamp: 'clamp · the designed RCD clamp', damped: 'damped · clamp + the designed RC damper' } as const;
-
-/** The rating, as the answer gives it. */
-export function designRating(d: Design): number {
-  return d.hand.voltageRating;
-}
 
 export function drawDesignDetails(data: DesignAnswer): void {
   const d = data.design;
@@ -97,7 +90,7 @@ function designTurnOffWindow(data: DesignAnswer): [number, number] | null {
 export function drawDesignPlot(data: DesignAnswer, scenario: Record<string, unknown>, zoomed: boolean): void {
   const d = data.design;
   const wc = d.verification.worstCase;
-  const rating = designRating(d);
+  const rating = d.hand.voltageRating;
   const derated = d.hand.deratedLimit;
   const plateau = wc.conditions.supplyVoltage + d.hand.reflectedVoltage;
   const present = VARIANTS.filter((v) => data.worstCaseTraces[v]);

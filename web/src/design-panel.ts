@@ -9,7 +9,7 @@ import { readForm } from './form-values.js';
 import { showIssues, showMessages } from './issues.js';
 import { marginCell, numCell, panelRunner, peakCell, verdictBadge, type Outcome, type PanelRunner } from './panel-common.js';
 import { COLOURS } from './plot-style.js';
-import { drawDesignDetails, drawDesignPlot, designRating } from './design-details.js';
+import { drawDesignDetails, drawDesignPlot } from './design-details.js';
 import { hooks, state } from './state.js';
 
 type Design = DesignAnswer['design'];
@@ -89,7 +89,7 @@ function drawDesign(data: DesignAnswer, scenario: Record<string, unknown>): void
   const d = data.design;
   const hand = d.hand;
   const wc = d.verification.worstCase;
-  const rating = designRating(d);
+  const rating = d.hand.voltageRating;
   const derated = hand.deratedLimit;
 
   const failed = d.corners.filter((c) => !c.pass)
