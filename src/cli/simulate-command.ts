@@ -61,7 +61,9 @@ export async function runSimulateCommand(file: string, options: SimulateOptions)
   const progress = progressReporter(options.progress === true || process.stderr.isTTY === true);
   for (const v of variants) {
     try {
-      runs.push(runVariant(scenario, v, { deadlineMs, onCycle: progress.onCycle(v) }));
+      // Without --csv nothing shows the waveforms: one recorded cycle of a settled orbit gives every
+      // metric (the others repeat it within the settle tolerance); other orbits keep them all.
+      runs.push(runVariant(scenario, v, { deadlineMs, onCycle: progress.onCycle(v), ...(options.csv ? {} : { recordedCyclesWhenSettled: 1 }) }));
     } catch (error) {
       if (!(error instanceof SimulationFailure)) throw error;
       failures.push(`${v}: ${withBudgetHint(error.message, maxSeconds)}`);

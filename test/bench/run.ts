@@ -17,6 +17,7 @@ import { fitBench } from './fit-capture.js';
 import { monteCarloBench } from './monte-carlo.js';
 import { designBench } from './design.js';
 import { pageBench } from './page.js';
+import { exactLimitBench } from './exact-limit.js';
 // The compiled study runner (npm run bench builds first), so that its workers load compiled code
 // as the CLI's do: under tsx each worker would first load and transpile the sources.
 const compiledStudy = '../../dist/study/run-study.js';
@@ -138,15 +139,16 @@ async function sweepBench(): Promise<boolean> {
 const files = readdirSync('scenarios').filter((f) => f.endsWith('.json') && !f.endsWith('.schema.json')).sort().map((f) => `scenarios/${f}`);
 console.log(`flyclamp benchmark: medians of ${REPEATS} runs, one core; targets: < ${TARGET_SCENARIO_SECONDS} s per demo scenario (all variants), ≤ ${TARGET_EVALUATIONS_PER_PERIOD} evaluations per period with ideal parts, real parts ≤ ${TARGET_REAL_PARTS_RATIO}× the constant-part time on odex`);
 let allMet = true;
-if (process.argv.includes('--monte-carlo') || process.argv.includes('--page')) {
-  const met = process.argv.includes('--page') ? await pageBench() : await monteCarloBench();
+if (process.argv.includes('--monte-carlo') || process.argv.includes('--page') || process.argv.includes('--exact')) {
+  const met = process.argv.includes('--page') ? await pageBench() : process.argv.includes('--exact') ? await exactLimitBench() : await monteCarloBench();
   console.log(`\n${met ? 'all targets met' : 'some targets MISSED'}`);
   process.exit(0);
 }
 for (const file of files) allMet = (await scenarioBench(file)).ok && allMet;
 // `npm run bench -- --scenarios`: the per-scenario table alone (a minute instead of several);
-// `-- --monte-carlo` or `-- --page`: that target alone.
+// `-- --monte-carlo`, `-- --page` or `-- --exact`: that target alone.
 if (!process.argv.includes('--scenarios')) {
+  allMet = (await exactLimitBench()) && allMet;
   allMet = memoryBench() && allMet;
   allMet = (await sweepBench()) && allMet;
   allMet = (await fitBench()) && allMet;
