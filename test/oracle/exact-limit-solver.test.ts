@@ -11,6 +11,7 @@ import { scenarioToJson } from '../../src/circuit/scenario-json.js';
 import { withIdealParts } from '../../src/model/ideal-parts.js';
 import type { Scenario } from '../../src/circuit/scenario.js';
 import { ExactSwitchingNode, exactRun, type ExactMetrics } from '../bench/exact/exact-solver.js';
+import type { Mode } from '../bench/exact/ideal-switching-node.js';
 import { referenceRun } from './reference/reference-run.js';
 
 function idealDemo(file: string): Scenario {
@@ -61,7 +62,7 @@ describe('the benchmark\'s exact solver', () => {
     // A start near the orbit: three periods from the hand-formula start (the mode sequence is the orbit's).
     const start = new Float64Array(6);
     start[2] = 0.5; start[3] = 0.9; start[5] = 1;
-    let state = { x: start, mode: { on: false, outputDiodeOn: false, drain: 'free' as const } as { on: boolean; outputDiodeOn: boolean; drain: 'free' | 'switch' | 'body' | 'clamped' } };
+    let state: { x: Float64Array; mode: Mode } = { x: start, mode: { on: false, outputDiodeOn: false, drain: 'free' } };
     for (let i = 0; i < 20; i++) state = node.period(state.x, state.mode);
     const jacobian = new Float64Array(36);
     for (let i = 0; i < 6; i++) jacobian[i * 7] = 1;
