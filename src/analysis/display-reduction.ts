@@ -55,10 +55,26 @@ export function roundForDisplay(trace: ReducedTrace, windowSeconds: number, colu
   };
 }
 
+/** Above this a whole number of steps is no longer exact in a double. */
+const EXACT_INTEGER = 2 ** 53;
+/** Powers of ten up to this one are exact in a double, so k / 10^d is the double nearest the decimal. */
+const EXACT_POWER_OF_TEN = 22;
+
 function roundTo(xs: readonly number[], largestStep: number): number[] {
   if (!(largestStep > 0) || !Number.isFinite(largestStep)) return [...xs];
   const exponent = Math.floor(Math.log10(largestStep));
   const step = 10 ** exponent;
   const digits = Math.min(100, Math.max(0, -exponent));
-  return xs.map((x) => (Number.isFinite(x) ? Number((Math.round(x / step) * step).toFixed(digits)) : x));
+  // Each value is the double nearest k·10^exponent. k / 10^digits (one correctly rounded
+  // division) gives that double as parsing the decimal text does, without building the text:
+  // the text took about a third of a simulate answer's work after the runs.
+  const exact = digits <= EXACT_POWER_OF_TEN;
+  const divisor = 10 ** digits;
+  return xs.map((x) => {
+    if (!Number.isFinite(x)) return x;
+    const k = Math.round(x / step);
+    if (k === 0) return 0; // not −0: the same JSON, and the same value to a reader
+    if (!exact || Math.abs(k) >= EXACT_INTEGER) return Number((k * step).toFixed(digits));
+    return exponent < 0 ? k / divisor : k * step;
+  });
 }

@@ -13,7 +13,7 @@ import type { DesignResult } from '../design/design-clamp.js';
 import type { FitJson } from '../capture/fit-json.js';
 import type { StudyPoint } from '../study/run-study.js';
 import type { PeakDistribution, WorstCase } from '../study/study-summary.js';
-import type { DisplayTraces } from '../server/simulate-task.js';
+import type { DisplayTraces, StartStates } from '../server/simulate-task.js';
 import type { CaptureView } from '../server/fit-task.js';
 import { scenarioSchema, toValidationIssues } from './scenario-schema.js';
 import { issueAt, type PathKey, type ValidationIssue } from './issues.js';
@@ -21,6 +21,8 @@ import { issueAt, type PathKey, type ValidationIssue } from './issues.js';
 /** Display columns of a simulate answer's traces. */
 export const MIN_COLUMNS = 10;
 export const MAX_COLUMNS = 4000;
+/** Longest start state a simulate request may send per variant (the simulator's largest state). */
+export const MAX_START_STATE_LENGTH = 10;
 /** Longest column name or position of a capture request. */
 export const MAX_COLUMN_NAME_LENGTH = 64;
 
@@ -68,6 +70,20 @@ const captureColumn = z.custom<string | number | null>(
   { error: (issue) => `expected the drain column's name or its position (1–64, the time column is 1), found ${describeBrief(issue.input)}` },
 );
 
+// A variant's period-start state from an earlier answer, sent back as a warm start. Its length is
+// only bounded here: one that does not fit the variant's state (another structure) is ignored.
+const startState = z.custom<number[]>(
+  (value) => Array.isArray(value) && value.length >= 1 && value.length <= MAX_START_STATE_LENGTH
+    && value.every((v) => typeof v === 'number' && Number.isFinite(v)),
+  { error: (issue) => `expected a list of 1 to ${MAX_START_STATE_LENGTH} finite numbers (the variant's startStates entry of an earlier answer), found ${describeBrief(issue.input)}` },
+);
+const startStatesSchema = z.strictObject(
+  Object.fromEntries(VARIANT_NAMES.map((name) => [name, startState.optional()])) as Record<VariantName, z.ZodOptional<typeof startState>>,
+  { error: (issue) => (issue.code === 'unrecognized_keys'
+    ? `expected variant names (${VARIANT_NAMES.join(', ')}) as keys, found ${issue.keys.map((k) => JSON.stringify(k)).join(', ')}`
+    : `expected an object of start states by variant (an earlier answer's startStates), found ${describeBrief(issue.input)}`) },
+);
+
 /** A body: a strict object, so a misspelt request field is reported rather than ignored. */
 const body = <Shape extends z.ZodRawShape>(shape: Shape, mainField: string) => z.strictObject(shape, {
   error: (issue) => (issue.code === 'invalid_type' ? `expected a JSON object with a "${mainField}" field, found ${Array.isArray(issue.input) ? 'a list' : typeof issue.input}` : undefined),
@@ -79,6 +95,8 @@ export const simulateRequestSchema = body({
   variants: variantsSchema.optional(),
   window: windowSchema.optional(),
   columns: columnsSchema.optional(),
+  /** An earlier answer's startStates: each variant starts from its state (a warm start) when it fits. */
+  startStates: startStatesSchema.optional(),
 }, 'scenario');
 
 /** POST /api/design (`columns` is accepted for the page's sake; the design's traces have their own). */
@@ -169,6 +187,11 @@ export interface SimulateResponse {
   traces: Partial<Record<VariantName, DisplayTraces>>;
   periodSeconds: number;
   recordedSeconds: number;
+  /**
+   * Per variant whose orbit settled, its period-start state on the orbit (the simulator's own
+   * units and order). Sent back with an edit of the same circuit, the runs start near the orbit.
+   */
+  startStates: StartStates;
   warnings: ValidationIssue[];
 }
 
@@ -207,4 +230,4 @@ export type FitResponse = FitJson & {
   warnings: ValidationIssue[];
 };
 
-export type { ReducedTrace, SimulationReport, DesignResult, FitJson, StudyPoint, WorstCase, PeakDistribution, ValidationIssue, DisplayTraces, CaptureView };
+export type { ReducedTrace, SimulationReport, DesignResult, FitJson, StudyPoint, WorstCase, PeakDistribution, ValidationIssue, DisplayTraces, CaptureView, StartStates };

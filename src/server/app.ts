@@ -380,6 +380,7 @@ function readSimulateBody(body: unknown, runTimeCapMs: number): SimulateTask & {
     scenario, variants: wanted, columns: request.columns ?? 1500, warnings: scenarioWarnings(scenario),
     capMs: runTimeCapMs,
     ...(request.window ? { window: request.window } : {}),
+    ...(request.startStates ? { startHints: request.startStates } : {}),
   };
 }
 

@@ -26,5 +26,6 @@ export async function simulateVariantsInParallel(run: RunTask, task: SimulateTas
     // The report's scenario-level fields come from the request's scenario, as one task would give them.
     report: { ...first.report, scenario: task.scenario.name, variants: Object.assign({}, ...done.map((p) => p.report.variants)) },
     traces: Object.assign({}, ...done.map((p) => p.traces)),
+    startStates: Object.assign({}, ...done.map((p) => p.startStates)),
   };
 }

@@ -17,6 +17,8 @@ export interface SimulateTask {
   capMs: number;
   /** The scenario's peak current is already the one that delivers its output power. */
   operatingPointSettled?: boolean;
+  /** Per variant, a period-start state to start from (an earlier answer's startStates): a warm start only. */
+  startHints?: { [V in VariantName]?: number[] | undefined };
 }
 
 export interface OperatingPointTask { scenario: Scenario; capMs: number }
@@ -39,8 +41,11 @@ export interface DisplayTraces {
   turnOffSeconds: number[];
 }
 
+/** Per variant whose orbit settled, its period-start state on the orbit (the simulator's own units and order). */
+export type StartStates = Partial<Record<VariantName, number[]>>;
+
 export type SimulateTaskResult =
-  | { ok: true; report: SimulationReport; traces: Partial<Record<VariantName, DisplayTraces>>; periodSeconds: number; recordedSeconds: number }
+  | { ok: true; report: SimulationReport; traces: Partial<Record<VariantName, DisplayTraces>>; periodSeconds: number; recordedSeconds: number; startStates: StartStates }
   | { ok: false; failure: string };
 
 export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
@@ -48,7 +53,10 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const deadlineMs = Date.now() + task.capMs;
   try {
     const scenario = task.operatingPointSettled ? task.scenario : settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
-    for (const v of task.variants) runs.push(runVariant(scenario, v, { deadlineMs }));
+    for (const v of task.variants) {
+      const startHint = task.startHints?.[v];
+      runs.push(runVariant(scenario, v, { deadlineMs, ...(startHint ? { startHint } : {}) }));
+    }
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;
@@ -58,7 +66,9 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const start = task.window?.startSeconds ?? 0;
   const end = task.window?.endSeconds ?? recordedSeconds;
   const traces: Partial<Record<VariantName, DisplayTraces>> = {};
+  const startStates: StartStates = {};
   for (const run of runs) {
+    if (run.orbit === 'settled') startStates[run.variant] = run.startState;
     const { timeSeconds, channels } = run.recorder.waveform;
     const shown = (values: ArrayLike<number>): ReducedTrace =>
       roundForDisplay(reduceForDisplay(timeSeconds, values, start, end, task.columns), end - start, task.columns);
@@ -71,5 +81,5 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
     if (run.params.clamp) entry.clampVoltage = shown(channels.clampVoltage);
     traces[run.variant] = entry;
   }
-  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds };
+  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds, startStates };
 }

@@ -43,6 +43,10 @@ export interface VariantRun {
   recordedCycles: number;
   /** Last cycle-to-cycle change of the period-start state, relative to the state scales. */
   finalChange: number;
+  /** The period-start state of the first recorded cycle (on the orbit when settled): a start hint for a nearby run. */
+  startState: number[];
+  /** The run started from RunOptions.startHint. */
+  startedFromHint: boolean;
   recorder: CycleRecorder;
   stats: RunStats;
 }
@@ -54,6 +58,14 @@ export interface RunOptions {
   deadlineMs?: number;
   /** Starting state [ip, im, vd, vc, vs]; by default the hand-formula clamp voltage and Vin on the damper. */
   initialState?: number[];
+  /**
+   * A period-start state to start from instead, as a run of a nearby circuit settled at
+   * (VariantRun.startState): a warm start. Only a guess: it is ignored unless it has this
+   * variant's state size, finite values and every value within START_HINT_SCALES of its state
+   * scale, and a run from it that does not settle (or fails) is made again from the usual start,
+   * so that the answer does not depend on it beyond the settle tolerance.
+   */
+  startHint?: readonly number[];
   /**
    * Accelerate the settling (default true): shooting for the periodic orbit after a few cycles,
    * and, cycle by cycle, jumps ahead along the slowest mode. False: plain cycle after cycle.
@@ -83,6 +95,10 @@ const kinkedField = (p: CircuitParams): boolean => !p.drainNode.isConstant && !(
 const MAX_CHAINED_TRANSITIONS = 8;
 /** Plain cycles before the shooting starts: the mode sequence of a cycle has found its pattern. */
 const SHOOTING_WARM_UP_CYCLES = 3;
+/** …from a start hint, near the orbit already: one cycle sets the devices' state at the period start. */
+const SHOOTING_WARM_UP_CYCLES_FROM_HINT = 1;
+/** A start hint's values may be at most this many state scales in size (an orbit's are a few at most). */
+export const START_HINT_SCALES = 20;
 /** Below this largest multiplier the shooting's orbit is taken as attracting without a try. */
 const MULTIPLIER_TRUSTED = 0.995;
 /** The nudge of the period-start currents in that try, relative to their scale. */
@@ -90,11 +106,50 @@ const ORBIT_NUDGE = 1e-3;
 
 export function runVariant(scenario: Scenario, variant: VariantName, options: RunOptions = {}): VariantRun {
   const started = performance.now();
-  const settings = scenario.simulation;
   const params = circuitForVariant(scenario, variant);
   const model = new SwitchingNodeModel(params);
   const stateSize = stateSizeFor(params);
-  const scales = stateScaleVector(params, model.scales, stateSize);
+  const scales = stateScales(params, model);
+  const setup: RunSetup = { scenario, variant, params, model, stateSize, scales, started };
+  const hint = options.startHint ? usableStartHint(options.startHint, params, scales) : null;
+  if (hint) {
+    try {
+      const run = settle(setup, options, hint);
+      if (run.orbit === 'settled') return run;
+    } catch (error) {
+      if (!(error instanceof SimulationFailure) || (options.deadlineMs !== undefined && Date.now() > options.deadlineMs)) throw error;
+    }
+  }
+  return settle(setup, options, null);
+}
+
+interface RunSetup {
+  scenario: Scenario;
+  variant: VariantName;
+  params: CircuitParams;
+  model: SwitchingNodeModel;
+  stateSize: number;
+  scales: number[];
+  started: number;
+}
+
+/**
+ * The hint when it fits this variant's state (its size, finite, within START_HINT_SCALES), else
+ * null. A part the variant lacks keeps the usual start: nothing moves its voltage, so a value there
+ * would stay in the answer (its waveform channel) whatever the run does.
+ */
+function usableStartHint(hint: readonly number[], params: CircuitParams, scales: readonly number[]): number[] | null {
+  if (hint.length !== scales.length) return null;
+  const fits = hint.every((v, i) => Number.isFinite(v) && Math.abs(v) <= START_HINT_SCALES * scales[i]!);
+  if (!fits) return null;
+  const usual = initialState(params, scales.length);
+  return hint.map((v, i) => ((i === VC && !params.clamp) || (i === VS && !params.damper) ? usual[i]! : v));
+}
+
+/** Cycles from the start (the hint, or the usual one) until the orbit is known, then the recorded cycles. */
+function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): VariantRun {
+  const { scenario, variant, params, model, stateSize, scales, started } = setup;
+  const settings = scenario.simulation;
   const atol = scales.map((s) => s * settings.relativeTolerance);
   const integrator = options.integrator?.(atol, settings, stateSize)
     ?? new ExactLinearSegmentIntegrator({
@@ -117,6 +172,11 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   let recorder: CycleRecorder | undefined;
 
   const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
+  // Each mode's last step, a cycle's first step in it when it comes back. Cleared at each period
+  // start: a step carried over from an earlier cycle made the period map depend on the cycles run
+  // before, not on its start state alone. Near the orbit that scatter (in the drain voltage at the
+  // period start, on the ring) was as large as the settle tolerance and misled the shooting's
+  // secant updates: bias-48v's clamp variant took 29 cycles to settle, 15 with the map a function.
   const lastStepByMode = new Map<string, number>();
 
   // Fire every transition whose condition already holds (or is at zero and rising) at this
@@ -175,7 +235,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   };
   let recordingNow = false;
 
-  let x = options.initialState ? [...options.initialState] : initialState(params, stateSize);
+  let x = hint ?? (options.initialState ? [...options.initialState] : initialState(params, stateSize));
   let mode: Mode = SWITCH_ON;
   const tracker = new OrbitTracker(scales, settings.settleTolerance, settings.maxCycles);
   let verdict: OrbitKind | null = null;
@@ -201,6 +261,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   };
 
   const runCycle = (recording: boolean): void => {
+    lastStepByMode.clear();
     recordingNow = recording;
     tripped = false;
     openAt = turnOffAt;
@@ -293,7 +354,10 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     return startKey(mode) === startKey(startMode) && distance(x) < before;
   };
   const extrapolator = new SettlingExtrapolator(scales, options.extrapolate ?? true);
-  let shootAfter = (options.extrapolate ?? true) && options.exactCycles === undefined ? SHOOTING_WARM_UP_CYCLES : Infinity;
+  let shootAfter = (options.extrapolate ?? true) && options.exactCycles === undefined
+    ? (hint ? SHOOTING_WARM_UP_CYCLES_FROM_HINT : SHOOTING_WARM_UP_CYCLES) : Infinity;
+  // A hint far from the orbit may hand the first shooting back: a second one follows the usual warm-up.
+  let shootingsLeft = hint ? 2 : 1;
   let finalChange: number | null = null;
   while (verdict === null) {
     verdict = tracker.push(x);
@@ -301,6 +365,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
     if (verdict !== null) break;
     if (cycles >= shootAfter) {
       shootAfter = Infinity;
+      shootingsLeft--;
       const startMode = mode;
       const shot = shootPeriodicOrbit(x, (start) => {
         x = [...start];
@@ -320,6 +385,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
       // Cycle by cycle from where the shooting (or the try) stopped; the tracker measures changes from there.
       if (shot.outcome === 'handed-back') x = shot.x;
       tracker.replaceLatest(x);
+      if (shootingsLeft > 0) shootAfter = cycles + SHOOTING_WARM_UP_CYCLES;
       if (cycles >= settings.maxCycles) { verdict = 'cycle-cap'; break; }
     }
     const jumpsBefore = extrapolator.jumps;
@@ -332,6 +398,7 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   }
   const recordedCycles = verdict === 'settled' && options.recordedCyclesWhenSettled !== undefined
     ? Math.min(settings.recordedCycles, options.recordedCyclesWhenSettled) : settings.recordedCycles;
+  const startState = [...x];
   const made = new CycleRecorder(params, period, recordedCycles, samplesPerCycle, ringPeriod);
   recorder = made;
   while (!made.done) {
@@ -342,8 +409,13 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   stats.wallTimeMs = performance.now() - started;
   return {
     variant, params, orbit: verdict, cycles, recordedCycles: made.cycles.length,
-    finalChange: finalChange ?? tracker.lastChange, recorder: made, stats,
+    finalChange: finalChange ?? tracker.lastChange, startState, startedFromHint: hint !== null, recorder: made, stats,
   };
+}
+
+/** The scales the settle tolerance is relative to, per state component (as VariantRun.startState). */
+export function stateScales(params: CircuitParams, model: SwitchingNodeModel = new SwitchingNodeModel(params)): number[] {
+  return stateScaleVector(params, model.scales, stateSizeFor(params));
 }
 
 /** Per-state scales: currents, voltages, the diode's charge, the channel's rate of fall. */

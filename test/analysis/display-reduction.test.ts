@@ -30,4 +30,16 @@ describe('roundForDisplay(trace, windowSeconds, columns)', () => {
     reduced.timeSeconds.forEach((t, i) => expect(Math.abs(rounded.timeSeconds[i]! - t)).toBeLessThanOrEqual(0.01 * 5e-6 / columns));
     expect(JSON.stringify(rounded).length).toBeLessThan(0.75 * JSON.stringify(reduced).length);
   });
+
+  it('sends each value as the double its short decimal text reads as (a step of 1e-3 V here: 3 decimals at most)', () => {
+    const columns = 1000;
+    const rounded = roundForDisplay(reduceForDisplay(time, values, 0, 5e-6, columns), 5e-6, columns);
+    // The range is about 240 V, so the step is 1e-3 V (1e-5 of the range at most, a power of ten).
+    for (const v of rounded.values) {
+      expect(v).toBe(Number(v.toFixed(3)));
+      expect(String(v).split('.')[1]?.length ?? 0).toBeLessThanOrEqual(3);
+    }
+    // Times: a step of 1e-11 s (1 % of a 5 ns column), 11 decimals in seconds.
+    for (const t of rounded.timeSeconds) expect(t).toBe(Number(t.toFixed(11)));
+  });
 });

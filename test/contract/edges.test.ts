@@ -88,7 +88,7 @@ describe('a bad scenario through the CLI and the API', () => {
       ['body.colums', ['body', 'colums']],
       ['body.variants', ['body', 'variants']],
     ].sort((a, b) => issues.findIndex((i) => i.path === a[0]) - issues.findIndex((i) => i.path === b[0])));
-    expect(issues.find((i) => i.path === 'body.colums')?.message).toBe('unknown field (expected scenario, variants, window, columns)');
+    expect(issues.find((i) => i.path === 'body.colums')?.message).toBe('unknown field (expected scenario, variants, window, columns, startStates)');
   });
 });
 

@@ -73,6 +73,31 @@ describe('HTTP API', () => {
     expect(shown).toBeGreaterThan(0.98 * peak);
   }, 60_000);
 
+  it('POST /api/simulate answers each settled variant\'s startStates; an edit sent with them settles on the answer a cold request gives', async () => {
+    type Answer = { report: { variants: Record<string, { peakDrainVoltage: number; clampVoltageMean?: number; settled: boolean }> }; startStates: Record<string, number[]> };
+    const scenario = await demo('gate-drive-24v');
+    const first = await (await post(s.base, { scenario })).json() as Answer;
+    expect(Object.keys(first.startStates)).toEqual(['bare', 'clamp', 'damped']);
+    for (const state of Object.values(first.startStates)) expect(state.every(Number.isFinite)).toBe(true);
+    (scenario.transformer as Record<string, unknown>).leakageInductance = '420n';
+    const cold = await post(s.base, { scenario });
+    const warm = await post(s.base, { scenario, startStates: first.startStates });
+    expect([cold.status, warm.status]).toEqual([200, 200]);
+    const [coldBody, warmBody] = [await cold.json() as Answer, await warm.json() as Answer];
+    for (const v of ['bare', 'clamp', 'damped']) {
+      const [a, b] = [coldBody.report.variants[v]!, warmBody.report.variants[v]!];
+      expect(b.settled).toBe(true);
+      // Both runs end within the settle tolerance (1e-5 of the state scales) of one orbit.
+      expect(Math.abs(b.peakDrainVoltage - a.peakDrainVoltage)).toBeLessThan(1e-4 * a.peakDrainVoltage);
+      if (a.clampVoltageMean !== undefined) expect(Math.abs(b.clampVoltageMean! - a.clampVoltageMean)).toBeLessThan(1e-4 * a.clampVoltageMean);
+    }
+    // Another circuit's states (bias-48v's clamp has a larger state) cost time at most.
+    const other = await (await post(s.base, { scenario: await demo('bias-48v'), variants: ['clamp'] })).json() as Answer;
+    const crossed = await post(s.base, { scenario, variants: ['clamp'], startStates: { clamp: other.startStates.clamp } });
+    expect(crossed.status).toBe(200);
+    expect((await crossed.json() as Answer).report.variants.clamp!.peakDrainVoltage).toBeCloseTo(coldBody.report.variants.clamp!.peakDrainVoltage, 6);
+  }, 60_000);
+
   it('POST /api/simulate answers 400 naming each bad field, as the CLI does', async () => {
     const scenario = await demo('bias-48v');
     (scenario.transformer as Record<string, unknown>).leakageInductance = '-1u';

@@ -126,6 +126,25 @@ describe('HTTP API: requests bounded before work starts', () => {
     expect((await issuesOf(thousand))[0]!.path).toBe('body.variants');
   });
 
+  it('answers 400 naming the field for a malformed startStates, before any run', async () => {
+    const scenario = await demo('bias-48v');
+    const cases: Array<[unknown, string, RegExp]> = [
+      [[1, 2, 3], 'body.startStates', /object of start states by variant/],
+      [{ clmp: [1, 2, 3] }, 'body.startStates', /variant names \(bare, clamp, damped\) as keys, found "clmp"/],
+      [{ clamp: [1, 'x', 3] }, 'body.startStates.clamp', /list of 1 to 10 finite numbers.*found \[1,"x",3\]/],
+      [{ damped: [1, null] }, 'body.startStates.damped', /finite numbers/],
+      [{ bare: [] }, 'body.startStates.bare', /1 to 10/],
+      [{ bare: Array(11).fill(0) }, 'body.startStates.bare', /1 to 10/],
+    ];
+    for (const [startStates, path, message] of cases) {
+      const res = await postTo(s.base, '/api/simulate', { scenario, startStates });
+      expect(res.status, JSON.stringify(startStates)).toBe(400);
+      const issues = await issuesOf(res);
+      expect(issues.map((i) => i.path), JSON.stringify(startStates)).toEqual([path]);
+      expect(issues[0]!.message).toMatch(message);
+    }
+  });
+
   it('validates a 255 kB number string within a second, with 400 naming the field', async () => {
     const scenario = await demo('bias-48v');
     scenario.switch.frequency = `1u${' '.repeat(255 * 1024 - 200)}H`;

@@ -101,6 +101,28 @@ describe('live editing', () => {
     console.log(`edit → redrawn drain plot, ms (300 ms pause included): ${timings.join(', ')}; median ${timings[1]}; the simulate requests alone: median ${requests[1]} ms`);
   }, TEST_TIMEOUT_MS);
 
+  it('sends the shown answer\'s startStates with an edit of the same design, and none with a newly loaded one', async () => {
+    const bodies: Array<{ startStates?: Record<string, number[]> }> = [];
+    const onRequest = (request: { url(): string; postData(): string | null }): void => {
+      if (request.url().endsWith('/api/simulate')) bodies.push(JSON.parse(request.postData() ?? '{}') as { startStates?: Record<string, number[]> });
+    };
+    page.on('request', onRequest);
+    try {
+      const before = await runCount();
+      const leakage = si(await page.inputValue(`[data-path="${LEAKAGE}"]`), 'H');
+      await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(leakage * 0.9, 'H'));
+      expect(await waitForRuns(before + 1)).toBe('ok');
+      const edit = bodies.at(-1)!;
+      expect(Object.keys(edit.startStates ?? {})).toEqual(['bare', 'clamp', 'damped']);
+      for (const state of Object.values(edit.startStates!)) expect(state.every(Number.isFinite)).toBe(true);
+      await openBundled('gate-drive-24v');
+      expect(bodies.at(-1)!.startStates).toBeUndefined();
+      await openBundled('bias-48v'); // as the tests below expect it
+    } finally {
+      page.off('request', onRequest);
+    }
+  }, TEST_TIMEOUT_MS);
+
   it('does not send a value that does not read as a number, and says why', async () => {
     const before = await runCount();
     await page.fill(`[data-path="${LEAKAGE}"]`, '2.4 uu');

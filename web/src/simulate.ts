@@ -75,7 +75,10 @@ export async function simulate(options: RunOptions = {}): Promise<void> {
   if (window_ && !state.last) return;
   window.clearTimeout(run.liveTimer);
   const scenario = options.scenario ?? (window_ && state.last ? state.last.scenario : readForm());
-  const body = { scenario, columns: columnsForPlot(), ...(window_ ? { window: window_ } : {}) };
+  // An edit of the design shown (or its zoom) starts each variant from the orbit of the last
+  // answer: the server only takes it as a starting guess. A newly loaded design starts afresh.
+  const startStates = state.last && (window_ || state.last.label === state.sourceLabel) ? state.last.result.startStates : undefined;
+  const body = { scenario, columns: columnsForPlot(), ...(window_ ? { window: window_ } : {}), ...(startStates ? { startStates } : {}) };
   run.abort?.abort();
   const abort = new AbortController();
   run.abort = abort;
