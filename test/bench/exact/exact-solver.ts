@@ -4,7 +4,8 @@
 // on the exact solution (its Taylor series inside a step, so a crest that touches a threshold
 // between step ends is seen too); the periodic steady state is found by Newton's method on the
 // period map with its exact Jacobian: the product of the steps' propagators and the events'
-// saltation matrices. Its own stepping throughout; only the scenario loader is flyclamp's.
+// saltation matrices (the jump of a state transition matrix at a state event: Aizerman &
+// Gantmacher, 1958, from memory). Its own stepping throughout; only the scenario loader is flyclamp's.
 
 import {
   AUGMENTED_SIZE as N, IM, IP, ONE, STATE_SIZE, VC, VD, VS, entryReset, idealCircuit, modeField, modeKey,
