@@ -30,7 +30,7 @@ const median = (xs: number[]): number => [...xs].sort((a, b) => a - b)[xs.length
 const pad = (s: string | number, n: number): string => String(s).padStart(n);
 
 /** User + system CPU seconds of one child process, from bash's `times` (Node reports no child rusage). */
-function processCpuSeconds(command: string[]): { seconds: number; stdout: string } {
+function processCpuSeconds(command: string[], outFile: string): { seconds: number; stdout: string } {
   const quoted = command.map((a) => `'${a.replace(/'/g, `'\\''`)}'`).join(' ');
   const child = spawnSync('bash', ['-c', `${quoted} > "$FLYCLAMP_BENCH_OUT"; status=$?; times; exit $status`], {
     encoding: 'utf8', env: { ...process.env, FLYCLAMP_BENCH_OUT: outFile },
@@ -41,8 +41,6 @@ function processCpuSeconds(command: string[]): { seconds: number; stdout: string
   const seconds = [...children.matchAll(/(\d+)m([\d.]+)s/g)].reduce((s, m) => s + Number(m[1]) * 60 + Number(m[2]), 0);
   return { seconds, stdout: readFileSync(outFile, 'utf8') };
 }
-
-let outFile = '';
 
 type MetricName = keyof ExactMetrics;
 
@@ -68,7 +66,7 @@ function worstError(exact: ExactMetrics, flyclamp: Record<string, unknown>, scen
 
 export async function exactLimitBench(): Promise<boolean> {
   const dir = mkdtempSync(join(tmpdir(), 'flyclamp-exact-'));
-  outFile = join(dir, 'out.json');
+  const outFile = join(dir, 'out.json');
   try {
     const bundle = join(dir, 'exact-cli.mjs');
     await build({
@@ -95,8 +93,8 @@ export async function exactLimitBench(): Promise<boolean> {
       let report: { variants: Record<string, Record<string, unknown>> } | undefined;
       let exactOut: Record<string, ExactRun> | undefined;
       for (let i = 0; i < PROCESS_REPEATS; i++) {
-        const f = processCpuSeconds([process.execPath, 'dist/cli/main.js', 'simulate', idealFile, '--json']);
-        const e = processCpuSeconds([process.execPath, bundle, idealFile]);
+        const f = processCpuSeconds([process.execPath, 'dist/cli/main.js', 'simulate', idealFile, '--json'], outFile);
+        const e = processCpuSeconds([process.execPath, bundle, idealFile], outFile);
         flyclampCpu.push(f.seconds);
         exactCpu.push(e.seconds);
         report ??= JSON.parse(f.stdout) as typeof report;

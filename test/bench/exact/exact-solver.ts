@@ -143,6 +143,7 @@ export interface ExactRun {
   readonly newtonIterations: number;
   readonly converged: boolean;
   readonly metrics: ExactMetrics;
+  /** Steps of the recorded period. */
   readonly steps: number;
 }
 
