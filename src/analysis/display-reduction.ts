@@ -41,6 +41,29 @@ export function reduceForDisplay(time: ArrayLike<number>, values: ArrayLike<numb
 }
 
 /**
+ * One recorded cycle of a settled orbit drawn as `copies` cycles: the grid's samples 1…S shifted
+ * by whole periods after the first copy (sample 0, the left limit at the period start, once). On
+ * a settled orbit the cycles differ by less than the settle tolerance, so the copies are what
+ * recording them all would draw, for a fraction of the work.
+ */
+export function repeatCycle(time: ArrayLike<number>, values: ArrayLike<number>, periodSeconds: number, copies: number): { time: Float64Array; values: Float64Array } {
+  const perCycle = time.length - 1;
+  const n = copies * perCycle + 1;
+  const outTime = new Float64Array(n);
+  const outValues = new Float64Array(n);
+  outTime[0] = time[0]!;
+  outValues[0] = values[0]!;
+  for (let k = 0; k < copies; k++) {
+    const offset = k * periodSeconds;
+    for (let j = 1; j <= perCycle; j++) {
+      outTime[k * perCycle + j] = time[j]! + offset;
+      outValues[k * perCycle + j] = values[j]!;
+    }
+  }
+  return { time: outTime, values: outValues };
+}
+
+/**
  * Rounds a reduced trace for sending: times to a decimal step of at most 1 % of a column, values
  * to one of at most 1e-5 of the trace's range (far below a pixel), so that the JSON carries a few
  * digits per number instead of seventeen.

@@ -40,6 +40,9 @@ export interface ShootingOptions {
   onCycle?: (cycles: number, change: number) => void;
 }
 
+/** Steps shorter than this fraction of the settle tolerance do not update the Jacobian estimate. */
+const NOISE_STEP_FRACTION = 0.3;
+
 const maxAbs = (v: readonly number[]): number => v.reduce((m, x) => Math.max(m, Math.abs(x)), 0);
 
 export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: number[]) => PeriodMapResult, options: ShootingOptions): ShootingResult {
@@ -87,9 +90,11 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
       uNext = u.map((v, i) => v + du[i]!);
       next = evaluate(uNext);
     }
-    // Broyden's update: B += (ΔF − B·Δu)·Δuᵀ / (Δuᵀ·Δu).
+    // Broyden's update: B += (ΔF − B·Δu)·Δuᵀ / (Δuᵀ·Δu). Not from a step below a third of the
+    // tolerance: there ΔF is mostly the solver's error, and the secant it gives is noise (bias-48v's
+    // bare variant learned a multiplier of 3 that way, and its orbit was tried with three cycles).
     const duNorm2 = du.reduce((sum, v) => sum + v * v, 0);
-    if (duNorm2 > 0) {
+    if (duNorm2 > 0 && maxAbs(du) >= NOISE_STEP_FRACTION * tolerance) {
       for (let i = 0; i < n; i++) {
         let bdu = 0;
         for (let j = 0; j < n; j++) bdu += B[i * n + j]! * du[j]!;

@@ -1,5 +1,5 @@
 import { describe, expect, it } from 'vitest';
-import { reduceForDisplay, roundForDisplay } from '../../src/analysis/display-reduction.js';
+import { reduceForDisplay, repeatCycle, roundForDisplay } from '../../src/analysis/display-reduction.js';
 
 // A damped 10 MHz ring sampled at 10 GS/s over 5 µs: 50,000 samples for a 1000-column plot.
 const time = Array.from({ length: 50_000 }, (_, i) => i * 1e-10);
@@ -41,5 +41,35 @@ describe('roundForDisplay(trace, windowSeconds, columns)', () => {
     }
     // Times: a step of 1e-11 s (1 % of a 5 ns column), 11 decimals in seconds.
     for (const t of rounded.timeSeconds) expect(t).toBe(Number(t.toFixed(11)));
+  });
+});
+
+describe('repeatCycle(time, values, periodSeconds, copies)', () => {
+  it('draws one settled cycle as the cycles recording them all gives, within the settle tolerance (gate-drive-24v, clamp)', async () => {
+    const { loadScenarioFile } = await import('../../src/circuit/load-scenario.js');
+    const { runVariant } = await import('../../src/simulation/run-variant.js');
+    const loaded = await loadScenarioFile('scenarios/gate-drive-24v.json');
+    if (!loaded.ok) throw new Error('demo invalid');
+    const scenario = loaded.scenario;
+    const all = runVariant(scenario, 'clamp');
+    const one = runVariant(scenario, 'clamp', { recordedCyclesWhenSettled: 1 });
+    expect(all.recordedCycles).toBe(3);
+    expect(one.recordedCycles).toBe(1);
+    const period = 1 / scenario.switch.frequency;
+    const drawn = repeatCycle(one.recorder.waveform.timeSeconds, one.recorder.waveform.channels.drainVoltage, period, 3);
+    const recorded = all.recorder.waveform;
+    expect(drawn.time).toHaveLength(recorded.timeSeconds.length);
+    // The same grid, and every sample within the settle tolerance of Vin + VR (the drain's scale)
+    // of the recorded one: both runs settle on the same orbit, from different cycle counts.
+    const scale = scenario.supply.voltage + scenario.transformer.turnsRatio * (scenario.output.voltage + scenario.output.diodeDrop);
+    let worst = 0;
+    recorded.timeSeconds.forEach((t, i) => {
+      expect(Math.abs(drawn.time[i]! - t)).toBeLessThanOrEqual(1e-9 * period);
+      worst = Math.max(worst, Math.abs(drawn.values[i]! - recorded.channels.drainVoltage[i]!));
+    });
+    expect(worst).toBeLessThanOrEqual(10 * scenario.simulation.settleTolerance * scale);
+    // …and it is a repeat: a sample one period later is the same value.
+    const perCycle = drawn.time.length / 3 | 0;
+    expect(drawn.values[perCycle + 7]).toBe(drawn.values[7]);
   });
 });
