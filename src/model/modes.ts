@@ -68,6 +68,7 @@ export class ModeModel {
   readonly linear: boolean;
   private readonly s: Signals;
   private systemCache: AffineSystem | null = null;
+  private movingCache: number[] | null = null;
 
   constructor(readonly params: CircuitParams, readonly mode: Mode) {
     this.key = modeKey(mode);
@@ -230,6 +231,27 @@ export class ModeModel {
     const rates = this.signals(x).rates;
     for (let i = 0; i < this.size; i++) out[i] = rates[i]! * SECONDS_PER_TIME_UNIT;
     return out;
+  }
+
+  /**
+   * The state components this mode's equations move (the others keep their values through it):
+   * those whose rate is non-zero at any of three probe states. A rate the equations do not set is
+   * exactly zero (signals() clears them all first), so a part absent from the mode (the channel's
+   * fall, a diode that is off, a damper the variant lacks) is found whatever the probe.
+   */
+  get movingComponents(): readonly number[] {
+    if (!this.movingCache) {
+      const n = this.size;
+      const out = new Array<number>(n);
+      const moves = new Array<boolean>(n).fill(false);
+      for (let k = 0; k < 3; k++) {
+        const x = Array.from({ length: n }, (_, i) => (1 + 0.37 * i) * (1 + 0.61 * k));
+        this.derivative(x, out);
+        out.forEach((rate, i) => { if (rate !== 0) moves[i] = true; });
+      }
+      this.movingCache = moves.flatMap((m, i) => (m ? [i] : []));
+    }
+    return this.movingCache;
   }
 
   /** The mode as dx/dt = A·x + b (per time unit), read off the field by probing; only for linear modes. */

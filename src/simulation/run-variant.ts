@@ -293,6 +293,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
         const result = integrator.integrate({
           derivative: fieldOf(entry),
           system: entry.model.linear ? entry.model.system() : null,
+          moving: entry.model.movingComponents,
           t0: t, x0: x, tEnd,
           events: events.map((e) => e.g),
           initialStep: lastStepByMode.get(key) ?? ringPeriod / 50,

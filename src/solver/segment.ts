@@ -23,6 +23,11 @@ export interface SegmentProblem {
   tEnd: number;
   /** The segment stops at the first rising zero crossing (negative to non-negative) of any of these. */
   events: readonly EventFunction[];
+  /**
+   * The components the field can move (ascending); the others keep x0's values through the
+   * segment. An integrator may integrate only these. All of them when absent.
+   */
+  moving?: readonly number[];
   /** A starting step: the last good step taken in the same mode, or a guess. */
   initialStep: number;
   maxStep: number;

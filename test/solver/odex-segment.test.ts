@@ -107,3 +107,46 @@ describe('OdexSegmentIntegrator on single modes against closed forms', () => {
     expect(Math.abs(sampled.t - expected) * w0).toBeLessThan(50 * 1e-6);
   });
 });
+
+describe('OdexSegmentIntegrator carrying only the components a mode moves', () => {
+  it('ModeModel.movingComponents lists the currents and the drain in a bare free ring (the clamp and damper states held), and every component it leaves out has a rate of exactly zero', () => {
+    const p = circuitForVariant(labScenario(), 'bare');
+    const model = new ModeModel(p, { ...SWITCH_ON, drain: 'free', outputDiodeOn: true });
+    expect(model.movingComponents).toEqual([IP, 1, VD]);
+    const clamped = new ModeModel(circuitForVariant(labScenario(), 'clamp'), { ...SWITCH_ON, drain: 'free' });
+    expect(clamped.movingComponents).toContain(VC);
+    // Any state: what is left out does not move (seeded states far from the probes).
+    const out = new Array<number>(5);
+    for (let k = 0; k < 20; k++) {
+      const x = [0.3 - 0.07 * k, -1.1 + 0.2 * k, 40 + 13 * k, 90 - 5 * k, 12 * k - 60];
+      model.derivative(x, out);
+      for (let i = 0; i < 5; i++) if (!model.movingComponents.includes(i)) expect(out[i], `component ${i}`).toBe(0);
+    }
+  });
+
+  it('integrate(free+out, R = 0) on the ring alone (3 of 5 components) keeps the closed form within 20 × rtol, the clamp state untouched, and the same event as the whole state', () => {
+    const { p, mode } = ringMode(0);
+    const l = p.leakageInductance, c = p.drainNode.at(0);
+    const w0 = 1 / Math.sqrt(l * c) * SECONDS_PER_TIME_UNIT;
+    const z0 = Math.sqrt(l / c);
+    const i0 = 0.5, vEq = p.supplyVoltage + p.reflectedVoltage;
+    const tEnd = 3.3 * (2 * Math.PI / w0);
+    const x0 = [i0, 1, vEq, 37.5, 12];
+    const moving = [IP, 1, VD];
+    const reduced = integrator(vEq).integrate({ ...mode, moving, t0: 0, x0, tEnd, events: [], initialStep: 0.001, maxStep: 1 });
+    expect(reduced.status).toBe('reached-end');
+    expect(Math.abs(reduced.x[VD]! - vEq - i0 * z0 * Math.sin(w0 * tEnd)) / (i0 * z0)).toBeLessThan(20 * RTOL);
+    expect(reduced.x[VC]).toBe(37.5);
+    expect(reduced.x[4]).toBe(12);
+    // The crossing of a level on the ring: located where the whole state's run locates it.
+    const level = vEq + 0.9 * i0 * z0;
+    const problem = { ...mode, t0: 0, x0, tEnd, events: [(x: ArrayLike<number>) => x[VD]! - level], initialStep: 0.001, maxStep: 1 };
+    const whole = integrator(vEq).integrate(problem);
+    const part = integrator(vEq).integrate({ ...problem, moving });
+    expect(whole.status).toBe('event');
+    expect(part.status).toBe('event');
+    expect(Math.abs(part.t - Math.asin(0.9) / w0) * w0).toBeLessThan(1e-6);
+    expect(Math.abs(part.t - whole.t) * w0).toBeLessThan(1e-7);
+    expect(part.x[VC]).toBe(37.5);
+  });
+});
