@@ -269,9 +269,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     const entryBefore = model.entry(mode);
     const vdBefore = entryBefore.model.signals(x).drainVoltage;
     const before = recording ? { entry: entryBefore, x: [...x] } : null;
-    // An ideal clamp diode pinning the drain lets go as the switch pulls the drain down.
-    const clampDiode = mode.drain === 'clamp' ? 'off' : mode.clampDiode;
-    mode = { ...SWITCH_ON, outputDiodeOn: mode.outputDiodeOn, clampDiode };
+    mode = switchOnFrom(mode);
     let entry = model.enter(mode, x);
     const vdAfter = entry.model.signals(x).drainVoltage;
     // The difference, not the energy at vd alone: in CCM the channel holds Ron·ip right after turn-on.
@@ -368,13 +366,14 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
       shootAfter = Infinity;
       shootingsLeft--;
       const startMode = mode;
+      const forgotten = forgottenAtTurnOn(model, switchOnFrom(startMode), x, scales);
       const shot = shootPeriodicOrbit(x, (start) => {
         x = [...start];
         mode = startMode;
         runCycle(false);
         checkDeadline();
         return { end: [...x], sameStart: startKey(mode) === startKey(startMode) };
-      }, { scales, tolerance: settings.settleTolerance, onCycle: (n, change) => options.onCycle?.(cycles + n, change) });
+      }, { scales, tolerance: settings.settleTolerance, forgotten, onCycle: (n, change) => options.onCycle?.(cycles + n, change) });
       cycles += shot.cycles;
       if (shot.outcome === 'settled' && (shot.largestMultiplier! < MULTIPLIER_TRUSTED || attracts(shot.x, startMode))) {
         x = shot.x;
@@ -412,6 +411,29 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     variant, params, orbit: verdict, cycles, recordedCycles: made.cycles.length,
     finalChange: finalChange ?? tracker.lastChange, startState, startedFromHint: hint !== null, recorder: made, stats,
   };
+}
+
+/** The mode a period starts in: the switch on; an ideal clamp diode pinning the drain lets go as the switch pulls the drain down. */
+function switchOnFrom(previous: Mode): Mode {
+  const clampDiode = previous.drain === 'clamp' ? 'off' : previous.clampDiode;
+  return { ...SWITCH_ON, outputDiodeOn: previous.outputDiodeOn, clampDiode };
+}
+
+/**
+ * The components of a period-start state that the turn-on overwrites whatever their value (the
+ * drain, held by the switch; the magnetizing current, equal to the primary's with the output diode
+ * off; a stopped diode's charge): a component is forgotten when a nudge of it leaves the state
+ * entered unchanged. The period map does not read them, which the shooting uses.
+ */
+function forgottenAtTurnOn(model: SwitchingNodeModel, start: Mode, x: readonly number[], scales: readonly number[]): boolean[] {
+  const entered = (v: number[]): number[] => { model.enter(start, v); return v; };
+  const base = entered([...x]);
+  return x.map((value, i) => {
+    const nudged = [...x];
+    nudged[i] = value + 1e-3 * scales[i]! + 1e-3 * Math.abs(value);
+    const after = entered(nudged);
+    return after.every((v, k) => v === base[k]);
+  });
 }
 
 /** The scales the settle tolerance is relative to, per state component (as VariantRun.startState). */

@@ -36,6 +36,13 @@ export interface ShootingOptions {
   /** The settle tolerance: both the last change and the predicted distance to the orbit below it. */
   tolerance: number;
   maxIterations?: number;
+  /**
+   * Components the period map does not read (the period start overwrites them, as the switch
+   * pins the drain): their columns of ∂F/∂x are exactly −I and stay so; the secant updates learn
+   * the others only. Learning those columns from noise coupled the drain's large row (its ring
+   * phase at the next turn-on) into every step.
+   */
+  forgotten?: readonly boolean[];
   /** Called after each evaluation with the count so far and the change. */
   onCycle?: (cycles: number, change: number) => void;
 }
@@ -46,7 +53,7 @@ const NOISE_STEP_FRACTION = 0.3;
 const maxAbs = (v: readonly number[]): number => v.reduce((m, x) => Math.max(m, Math.abs(x)), 0);
 
 export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: number[]) => PeriodMapResult, options: ShootingOptions): ShootingResult {
-  const { scales, tolerance } = options;
+  const { scales, tolerance, forgotten } = options;
   const n = start.length;
   const maxIterations = options.maxIterations ?? 40;
   const toScaled = (x: readonly number[]): number[] => x.map((v, i) => v / scales[i]!);
@@ -90,16 +97,18 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
       uNext = u.map((v, i) => v + du[i]!);
       next = evaluate(uNext);
     }
-    // Broyden's update: B += (ΔF − B·Δu)·Δuᵀ / (Δuᵀ·Δu). Not from a step below a third of the
-    // tolerance: there ΔF is mostly the solver's error, and the secant it gives is noise (bias-48v's
-    // bare variant learned a multiplier of 3 that way, and its orbit was tried with three cycles).
-    const duNorm2 = du.reduce((sum, v) => sum + v * v, 0);
-    if (duNorm2 > 0 && maxAbs(du) >= NOISE_STEP_FRACTION * tolerance) {
+    // Broyden's update: B += (ΔF − B·Δu)·Δuᵀ / (Δuᵀ·Δu), Δu over the components the map reads.
+    // Not from a step below a third of the tolerance: there ΔF is mostly the solver's error, and
+    // the secant it gives is noise (bias-48v's bare variant learned a multiplier of 3 that way,
+    // and its orbit was tried with three cycles).
+    const learned = du.map((v, j) => (forgotten?.[j] ? 0 : v));
+    const duNorm2 = learned.reduce((sum, v) => sum + v * v, 0);
+    if (duNorm2 > 0 && maxAbs(learned) >= NOISE_STEP_FRACTION * tolerance) {
       for (let i = 0; i < n; i++) {
         let bdu = 0;
         for (let j = 0; j < n; j++) bdu += B[i * n + j]! * du[j]!;
         const r = (next.f[i]! - current.f[i]! - bdu) / duNorm2;
-        for (let j = 0; j < n; j++) B[i * n + j]! += r * du[j]!;
+        for (let j = 0; j < n; j++) B[i * n + j]! += r * learned[j]!;
       }
     }
     if (maxAbs(next.f) > 10 * Math.max(change, tolerance) && iteration > 2) {
