@@ -50,7 +50,10 @@ describe("import from 'flyclamp'", () => {
     expect(out.invalid).not.toBe('other');
     expect(out.invalid).not.toBe('');
     const cli = JSON.parse(execFileSync(process.execPath, ['dist/cli/main.js', 'simulate', 'scenarios/gate-drive-24v.json', '--json', '--variant', 'bare'], { cwd: root, encoding: 'utf8' })) as { variants: { bare: { peakDrainVoltage: number } } };
-    expect(out.peak).toBe(cli.variants.bare.peakDrainVoltage);
+    // The same settled orbit: the library records the scenario's three cycles (its caller gets the
+    // waveforms), the CLI without --csv one, so the peaks agree within the settle tolerance (1e-5).
+    expect(Math.abs(out.peak - cli.variants.bare.peakDrainVoltage)).toBeLessThanOrEqual(1e-5 * cli.variants.bare.peakDrainVoltage);
+    expect(out.peak).toBeGreaterThan(50);
   });
 
   it('has types a strict script and the README example compile against, and that refuse a misuse', async () => {
