@@ -16,8 +16,12 @@ export interface PointTask {
   deadlineMs?: number;
   /** Time cap of this task, ms, counted from when a worker starts it, so time queued does not count. */
   capMs?: number;
+  /** Per variant, a period-start state of a nearby point's orbit: a warm start only (RunOptions.startHint). */
+  startHints?: StartStates;
 }
-export type PointResult = { ok: true; report: SimulationReport } | { ok: false; failure: string };
+/** Per variant whose orbit settled, its period-start state (VariantRun.startState). */
+export type StartStates = Partial<Record<VariantName, number[]>>;
+export type PointResult = { ok: true; report: SimulationReport; startStates: StartStates } | { ok: false; failure: string };
 
 export function runPointTask(task: PointTask): PointResult {
   const validated = validateScenario(task.scenarioJson);
@@ -27,10 +31,15 @@ export function runPointTask(task: PointTask): PointResult {
   const options = { recordedCyclesWhenSettled: 1, ...(deadlines.length > 0 ? { deadlineMs: Math.min(...deadlines) } : {}) };
   try {
     const scenario = settleOperatingPoint(validated.scenario, options).scenario;
-    const runs = (task.variants ?? availableVariants(scenario)).map((v) => runVariant(scenario, v, options));
+    const runs = (task.variants ?? availableVariants(scenario)).map((v) => {
+      const startHint = task.startHints?.[v];
+      return runVariant(scenario, v, { ...options, ...(startHint ? { startHint } : {}) });
+    });
     const report = simulationReport(scenario, runs);
     const { problems } = soundVariants(report.variants);
-    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report };
+    const startStates: StartStates = {};
+    for (const run of runs) if (run.orbit === 'settled') startStates[run.variant] = run.startState;
+    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report, startStates };
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;

@@ -33,6 +33,30 @@ describe('runStudy(base, points)', () => {
     expect(stripStats(study.points[0]!.variants!)).toEqual(stripStats(report.variants));
   }, 60_000);
 
+  it('points after the first start from its orbit: each agrees with a cold direct run within the settle tolerance, with the same verdict, in fewer cycles; in-process and pooled answers are identical', async () => {
+    const base = await demoJson('scenarios/gate-drive-24v.json');
+    const points = gridPoints([{ path: 'transformer.leakageInductance', from: 320e-9, to: 480e-9, steps: 4 }]);
+    const here = await runStudy(base, points, { workers: 0 });
+    const pooled = await runStudy(base, points, { workers: 2 });
+    pooled.points.forEach((p, i) => expect(stripStats(p.variants!), `point ${i}`).toEqual(stripStats(here.points[i]!.variants!)));
+    let warmCycles = 0, coldCycles = 0;
+    for (const [i, point] of here.points.entries()) {
+      const direct = validateScenario(scenarioAtPoint(base, points[i]!));
+      if (!direct.ok) throw new Error('invalid');
+      for (const v of ['bare', 'clamp', 'damped'] as const) {
+        const cold = runVariant(direct.scenario, v, { recordedCyclesWhenSettled: 1 });
+        const warm = point.variants![v]!;
+        const peak = Math.max(...cold.recorder.cycles.map((c) => c.drainVoltage.max));
+        expect(warm.settled, `point ${i} ${v}`).toBe(cold.orbit === 'settled');
+        // The settle tolerance (1e-5) is relative to Vin + VR: ten of it, for the peak's own sensitivity.
+        const plateau = direct.scenario.supply.voltage + direct.scenario.transformer.turnsRatio * (direct.scenario.output.voltage + direct.scenario.output.diodeDrop);
+        expect(Math.abs(warm.peakDrainVoltage - peak), `point ${i} ${v}`).toBeLessThan(10 * direct.scenario.simulation.settleTolerance * plateau);
+        if (i > 0) { warmCycles += warm.cycles; coldCycles += cold.cycles; }
+      }
+    }
+    expect(warmCycles).toBeLessThan(coldCycles);
+  }, 60_000);
+
   it('keeps a failed point with its reason and runs the others', async () => {
     const base = await demoJson('scenarios/gate-drive-24v.json');
     const study = await runStudy(base, [{ 'switch.dutyCycle': 0.3 }, { 'switch.dutyCycle': 0.8 }, { 'switch.dutyCycle': 0.25 }], { workers: 0 });
