@@ -51,7 +51,9 @@ export function runDesignRunTask(task: DesignRunTask): DesignRunResult {
   const options = task.deadlineMs === undefined ? {} : { deadlineMs: task.deadlineMs };
   try {
     const settled = task.settle ? settleOperatingPoint(task.scenario, options) : { scenario: task.scenario, point: null };
-    const runs = task.variants.map((v) => runVariant(settled.scenario, v, options));
+    // A run kept for its metrics alone records one cycle of a settled orbit, which gives them all.
+    const recording = task.traceColumns === undefined ? { recordedCyclesWhenSettled: 1 } : {};
+    const runs = task.variants.map((v) => runVariant(settled.scenario, v, { ...options, ...recording }));
     const report = simulationReport(settled.scenario, runs, task.drainDerating);
     const columns = task.traceColumns;
     const traces = columns === undefined ? undefined : Object.fromEntries(runs.map((r) => [r.variant, drainTraces(r, columns)]));
