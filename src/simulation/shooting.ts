@@ -88,11 +88,14 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
       return { outcome: 'settled', x: fromScaled(u.map((v, i) => v + step[i]!)), cycles, lastChange: change, largestMultiplier: largestMultiplier(B, n) };
     }
     // Halve a step that made the change much larger: far from the orbit the rank-one model of the
-    // map can overshoot (a mode sequence that changes mid-way).
+    // map can overshoot (a mode sequence that changes mid-way). Judged on the components the map
+    // reads: a forgotten one only follows them (its change swings with a ring's phase).
+    const readChange = (f: readonly number[]): number => maxAbs(forgotten ? f.filter((_, i) => !forgotten[i]) : f);
+    const changeRead = readChange(current.f);
     let du = step;
     let uNext = u.map((v, i) => v + du[i]!);
     let next = evaluate(uNext);
-    for (let halvings = 0; halvings < 3 && next.ok && maxAbs(next.f) > 2 * Math.max(change, tolerance); halvings++) {
+    for (let halvings = 0; halvings < 3 && next.ok && readChange(next.f) > 2 * Math.max(changeRead, tolerance); halvings++) {
       du = du.map((v) => v / 2);
       uNext = u.map((v, i) => v + du[i]!);
       next = evaluate(uNext);
@@ -111,7 +114,7 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
         for (let j = 0; j < n; j++) B[i * n + j]! += r * learned[j]!;
       }
     }
-    if (maxAbs(next.f) > 10 * Math.max(change, tolerance) && iteration > 2) {
+    if (readChange(next.f) > 10 * Math.max(changeRead, tolerance) && iteration > 2) {
       return { outcome: 'handed-back', x: next.end, cycles, lastChange: maxAbs(next.f), reason: 'the steps stopped converging' };
     }
     u = uNext;
