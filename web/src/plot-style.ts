@@ -45,22 +45,12 @@ export function designName(): string {
 export function plotConfig(what: string, variants: readonly string[] = []): PlotSpec {
   const filename = [designName(), what, ...(variants.length ? [variants.join(', ')] : [])].join(' - ');
   const title = `${designName()} — ${what}${variants.length ? ` (${variants.join(', ')})` : ''}`;
-  // The same object for the same plot: Plotly.react compares the config's entries by reference,
-  // and a new export handler on every answer made it rebuild the plot instead of updating it
-  // (measured in chromium without a GPU: the frame after an answer 26–29 ms instead of 8).
-  const key = `${filename}\u0000${title}`;
-  let config = configs.get(key);
-  if (!config) {
-    const exportButton = {
-      name: 'export-titled', title: 'Download plot as PNG, titled', icon: Plotly?.Icons.camera,
-      click: (gd: PlotElement) => { void exportImage(gd, filename, title); },
-    };
-    config = { ...PLOT_CONFIG, toImageButtonOptions: { filename, format: 'png' }, modeBarButtonsToRemove: [...REMOVED, 'toImage'], modeBarButtonsToAdd: [exportButton] };
-    configs.set(key, config);
-  }
-  return config;
+  const exportButton = {
+    name: 'export-titled', title: 'Download plot as PNG, titled', icon: Plotly?.Icons.camera,
+    click: (gd: PlotElement) => { void exportImage(gd, filename, title); },
+  };
+  return { ...PLOT_CONFIG, toImageButtonOptions: { filename, format: 'png' }, modeBarButtonsToRemove: [...REMOVED, 'toImage'], modeBarButtonsToAdd: [exportButton] };
 }
-const configs = new Map<string, PlotSpec>();
 
 /** The plot as drawn, with a title above it, downloaded as a PNG; nothing leaves the browser. */
 export async function exportImage(gd: PlotElement, filename: string, title: string): Promise<void> {
