@@ -75,6 +75,9 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
   let u = toScaled(start);
   let current = evaluate(u);
   let quietSteps = 0;
+  // Progress is judged on the components the map reads: a forgotten one only follows them (its
+  // change swings with a ring's phase at the next turn-on).
+  const readChange = (f: readonly number[]): number => maxAbs(forgotten ? f.filter((_, i) => !forgotten[i]) : f);
   for (let iteration = 0; iteration < maxIterations; iteration++) {
     const change = maxAbs(current.f);
     if (!current.ok) return { outcome: 'handed-back', x: current.end, cycles, lastChange: change, reason: 'the devices at the period start changed' };
@@ -88,9 +91,7 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
       return { outcome: 'settled', x: fromScaled(u.map((v, i) => v + step[i]!)), cycles, lastChange: change, largestMultiplier: largestMultiplier(B, n) };
     }
     // Halve a step that made the change much larger: far from the orbit the rank-one model of the
-    // map can overshoot (a mode sequence that changes mid-way). Judged on the components the map
-    // reads: a forgotten one only follows them (its change swings with a ring's phase).
-    const readChange = (f: readonly number[]): number => maxAbs(forgotten ? f.filter((_, i) => !forgotten[i]) : f);
+    // map can overshoot (a mode sequence that changes mid-way).
     const changeRead = readChange(current.f);
     let du = step;
     let uNext = u.map((v, i) => v + du[i]!);
