@@ -255,6 +255,9 @@ describe('the drain plot', () => {
     };
     await click(crests[1]!);
     await page.waitForFunction(() => /click a second point/.test(document.getElementById('cursor-readout')?.textContent ?? ''));
+    // Plotly takes two clicks within its double-click delay (300 ms by default) for a double-click
+    // (it resets the axes and reports no click), as it does for a person clicking that fast.
+    await page.waitForTimeout(400);
     await click(crests[2]!);
     await page.waitForFunction(() => document.getElementById('cursor-readout')?.dataset.dt !== undefined);
     const dt = Number(await page.getAttribute('#cursor-readout', 'data-dt'));

@@ -5,7 +5,7 @@ import { $ } from './dom.js';
 import type { SimulateAnswer } from './api.js';
 import { fmtSi } from './format.js';
 import { purge, react, type PlotSpec } from './plotly.js';
-import { AXIS, BASE_LAYOUT, COLOURS, describePlot, plotConfig, US, VARIANTS, variantLabel } from './plot-style.js';
+import { LINEAR_AXIS, BASE_LAYOUT, COLOURS, describePlot, plotConfig, US, VARIANTS, variantLabel } from './plot-style.js';
 
 const plot = $('#clamp-plot');
 
@@ -38,9 +38,9 @@ export function drawClamp(result: SimulateAnswer): void {
     ...BASE_LAYOUT,
     margin: { l: 62, r: 14, t: 12, b: 48 },
     showlegend: false, shapes, annotations,
-    xaxis: { ...AXIS, title: { text: 'time over the recorded settled cycles (µs)' }, range: [0, x1] },
+    xaxis: { ...LINEAR_AXIS, title: { text: 'time over the recorded settled cycles (µs)' }, range: [0, x1] },
     // Head-room above the traces keeps the notes off the waveforms.
-    yaxis: { ...AXIS, title: { text: 'clamp capacitor above rail (V)' }, range: clampRange(data, withClamp.length) },
+    yaxis: { ...LINEAR_AXIS, title: { text: 'clamp capacitor above rail (V)' }, range: clampRange(data, withClamp.length) },
   };
   void react(plot, data, layout, plotConfig('clamp capacitor voltage', withClamp));
   describePlot(plot, `Clamp capacitor voltage above the rail against time, ${withClamp.join(', ')}`, `${notes.join('; ')}.`);

@@ -6,7 +6,7 @@ import { $, button } from './dom.js';
 import type { SimulateAnswer, VariantName } from './api.js';
 import { fmtNumber, fmtSi, fmtVolts } from './format.js';
 import { react, type PlotElement, type PlotSpec } from './plotly.js';
-import { AXIS, BASE_LAYOUT, COLOURS, describePlot, LEGEND_ON_TOP, limitLevels, plotConfig, US, VARIANTS, variantLabel } from './plot-style.js';
+import { LINEAR_AXIS, BASE_LAYOUT, COLOURS, describePlot, LEGEND_ON_TOP, limitLevels, plotConfig, US, VARIANTS, variantLabel } from './plot-style.js';
 import { cursorShapes, cursorTraces, onPlotClick, resetCursors } from './cursors.js';
 import { hooks, state, type TimeWindow } from './state.js';
 
@@ -62,8 +62,8 @@ export function drawDrain(result: SimulateAnswer, window_: TimeWindow | null): v
     ...BASE_LAYOUT,
     margin: { l: 62, r: 14, t: 34, b: 48 },
     legend: LEGEND_ON_TOP,
-    xaxis: { ...AXIS, title: { text: window_ ? 'time from the start of the recorded cycles (µs) — full resolution' : 'time over the recorded settled cycles (µs)' }, range: [x0, x1] },
-    yaxis: { ...AXIS, title: { text: 'drain–source voltage (V)' }, rangemode: 'tozero' },
+    xaxis: { ...LINEAR_AXIS, title: { text: window_ ? 'time from the start of the recorded cycles (µs) — full resolution' : 'time over the recorded settled cycles (µs)' }, range: [x0, x1] },
+    yaxis: { ...LINEAR_AXIS, title: { text: 'drain–source voltage (V)' }, rangemode: 'tozero' },
     annotations: levels.tags,
     shapes: cursorShapes(),
   };

