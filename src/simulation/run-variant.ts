@@ -123,6 +123,9 @@ export function runVariant(scenario: Scenario, variant: VariantName, options: Ru
   return settle(setup, options, null);
 }
 
+/** A cycle recorded by one of the shooting's evaluations, from `start`. */
+interface ShootingRecording { recorder: CycleRecorder; start: number[] }
+
 interface RunSetup {
   scenario: Scenario;
   variant: VariantName;
@@ -168,8 +171,10 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
   const boundaryCause = control.kind === 'fixed-duty' ? 'fixed-duty' : 'max-duty';
   const turnOffDelay = params.turnOffDelay / SECONDS_PER_TIME_UNIT;
   const samplesPerCycle = recordedSamplesPerCycle(settings.samplesPerCycle, period, leakageRingPeriod);
-  // Made once the orbit is known: a settled one may need fewer recorded cycles (see RunOptions).
+  // Made once the orbit is known (a settled one may need fewer recorded cycles, see RunOptions), or
+  // for an evaluation of the shooting that may be its last.
   let recorder: CycleRecorder | undefined;
+  const newRecorder = (cycleCount: number): CycleRecorder => new CycleRecorder(params, period, cycleCount, samplesPerCycle, ringPeriod);
 
   const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
   // Each mode's last step, a cycle's first step in it when it comes back. Cleared at each period
@@ -358,6 +363,14 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
   // A hint far from the orbit may hand the first shooting back: a second one follows the usual warm-up.
   let shootingsLeft = hint ? 2 : 1;
   let finalChange: number | null = null;
+  // The last plain cycle's start and devices' state: the shooting's first evaluation when the cycle
+  // ended in the state it started in.
+  let lastPlain: { start: number[]; key: string } | null = null;
+  // How many cycles a settled orbit records, and the first of them when the shooting's last
+  // evaluation recorded it (see PeriodMap: one cycle less per run).
+  const settledRecordCount = options.recordedCyclesWhenSettled !== undefined
+    ? Math.min(settings.recordedCycles, options.recordedCyclesWhenSettled) : settings.recordedCycles;
+  let recordedByShooting: ShootingRecording | null = null;
   while (verdict === null) {
     verdict = tracker.push(x);
     if (options.exactCycles !== undefined) verdict = cycles >= options.exactCycles ? 'cycle-cap' : null;
@@ -367,14 +380,30 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
       shootingsLeft--;
       const startMode = mode;
       const forgotten = forgottenAtTurnOn(model, switchOnFrom(startMode), x, scales);
-      const shot = shootPeriodicOrbit(x, (start) => {
+      const reuse = lastPlain?.key === startKey(startMode) ? lastPlain : null;
+      // Set by the map (TypeScript does not follow assignments inside the callback).
+      const last: { recording: ShootingRecording | null } = { recording: null };
+      const shot = shootPeriodicOrbit(reuse ? reuse.start : x, (start, mayBeLast) => {
         x = [...start];
         mode = startMode;
-        runCycle(false);
+        last.recording = mayBeLast ? { recorder: newRecorder(settledRecordCount), start: [...start] } : null;
+        if (last.recording) recorder = last.recording.recorder;
+        runCycle(last.recording !== null);
         checkDeadline();
         return { end: [...x], sameStart: startKey(mode) === startKey(startMode) };
-      }, { scales, tolerance: settings.settleTolerance, forgotten, onCycle: (n, change) => options.onCycle?.(cycles + n, change) });
+      }, {
+        scales, tolerance: settings.settleTolerance, forgotten,
+        ...(reuse ? { startEvaluated: { end: [...x], sameStart: true } } : {}),
+        onCycle: (n, change) => options.onCycle?.(cycles + n, change),
+      });
       cycles += shot.cycles;
+      if (shot.outcome === 'settled' && shot.largestMultiplier! < MULTIPLIER_TRUSTED && last.recording) {
+        // The last evaluation was recorded (see PeriodMap): it is the first recorded cycle.
+        recordedByShooting = last.recording;
+        verdict = 'settled';
+        finalChange = shot.lastChange;
+        break;
+      }
       if (shot.outcome === 'settled' && (shot.largestMultiplier! < MULTIPLIER_TRUSTED || attracts(shot.x, startMode))) {
         x = shot.x;
         mode = startMode;
@@ -391,15 +420,14 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     const jumpsBefore = extrapolator.jumps;
     x = extrapolator.next(x);
     if (extrapolator.jumps !== jumpsBefore) tracker.replaceLatest(x);
+    lastPlain = { start: [...x], key: startKey(mode) };
     runCycle(false);
     cycles++;
     options.onCycle?.(cycles, tracker.lastChange);
     checkDeadline();
   }
-  const recordedCycles = verdict === 'settled' && options.recordedCyclesWhenSettled !== undefined
-    ? Math.min(settings.recordedCycles, options.recordedCyclesWhenSettled) : settings.recordedCycles;
-  const startState = [...x];
-  const made = new CycleRecorder(params, period, recordedCycles, samplesPerCycle, ringPeriod);
+  const startState = recordedByShooting ? recordedByShooting.start : [...x];
+  const made = recordedByShooting?.recorder ?? newRecorder(verdict === 'settled' ? settledRecordCount : settings.recordedCycles);
   recorder = made;
   while (!made.done) {
     runCycle(true);

@@ -15,6 +15,14 @@ export interface PeriodMapResult {
   sameStart: boolean;
 }
 
+/**
+ * The period map: the state one period after x. `mayBeLast`: if this evaluation is quiet too, the
+ * shooting settles with it, and x is then within the tolerance of the orbit as well (its change and
+ * the step still to go were below it): the caller may record the cycle it runs and keep it as the
+ * first cycle on the orbit.
+ */
+export type PeriodMap = (x: number[], mayBeLast: boolean) => PeriodMapResult;
+
 export interface ShootingResult {
   /**
    * 'settled': x is on the orbit; 'handed-back': continue cycle by cycle from x, the end state of
@@ -45,6 +53,11 @@ export interface ShootingOptions {
   forgotten?: readonly boolean[];
   /** Called after each evaluation with the count so far and the change. */
   onCycle?: (cycles: number, change: number) => void;
+  /**
+   * P(start) when the caller has it already (its last plain cycle ran from start in the same
+   * devices' state): the shooting begins there, one evaluation and one secant ahead.
+   */
+  startEvaluated?: PeriodMapResult;
 }
 
 /** Steps shorter than this fraction of the settle tolerance do not update the Jacobian estimate. */
@@ -52,7 +65,7 @@ const NOISE_STEP_FRACTION = 0.3;
 
 const maxAbs = (v: readonly number[]): number => v.reduce((m, x) => Math.max(m, Math.abs(x)), 0);
 
-export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: number[]) => PeriodMapResult, options: ShootingOptions): ShootingResult {
+export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMap, options: ShootingOptions): ShootingResult {
   const { scales, tolerance, forgotten } = options;
   const n = start.length;
   const maxIterations = options.maxIterations ?? 40;
@@ -60,21 +73,23 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: (x: numb
   const fromScaled = (u: readonly number[]): number[] => u.map((v, i) => v * scales[i]!);
 
   let cycles = 0;
-  const evaluate = (u: number[]): { f: number[]; end: number[]; ok: boolean } => {
-    const r = periodMap(fromScaled(u));
-    cycles++;
-    const endScaled = toScaled(r.end);
-    const f = endScaled.map((v, i) => v - u[i]!);
-    options.onCycle?.(cycles, maxAbs(f));
+  const evaluated = (u: readonly number[], r: PeriodMapResult): { f: number[]; end: number[]; ok: boolean } => {
+    const f = toScaled(r.end).map((v, i) => v - u[i]!);
     return { f, end: r.end, ok: r.sameStart && f.every(Number.isFinite) };
+  };
+  let quietSteps = 0;
+  const evaluate = (u: number[]): { f: number[]; end: number[]; ok: boolean } => {
+    const result = evaluated(u, periodMap(fromScaled(u), quietSteps === 1));
+    cycles++;
+    options.onCycle?.(cycles, maxAbs(result.f));
+    return result;
   };
 
   // B ≈ ∂F/∂u in scaled units, row-major; −I at first.
   const B = new Array<number>(n * n).fill(0);
   for (let i = 0; i < n; i++) B[i * n + i] = -1;
   let u = toScaled(start);
-  let current = evaluate(u);
-  let quietSteps = 0;
+  let current = options.startEvaluated ? evaluated(u, options.startEvaluated) : evaluate(u);
   // Progress is judged on the components the map reads: a forgotten one only follows them (its
   // change swings with a ring's phase at the next turn-on).
   const readChange = (f: readonly number[]): number => maxAbs(forgotten ? f.filter((_, i) => !forgotten[i]) : f);

@@ -69,6 +69,31 @@ describe('shootPeriodicOrbit(start, P, options)', () => {
     expect(structured.cycles).toBeLessThan(plain.outcome === 'settled' ? plain.cycles : Infinity);
   });
 
+  it('starts one evaluation ahead from a plain cycle the caller ran already, and flags the evaluation that settles it, whose start is on the orbit within the tolerance', () => {
+    const m = [[0.9, 0.05], [0.1, 0.5]], c = [1, 2];
+    // (I − M)·x* = c by Cramer's rule: det = 0.1·0.5 − 0.05·0.1.
+    const det = 0.1 * 0.5 - 0.05 * 0.1;
+    const fixed = [(1 * 0.5 + 0.05 * 2) / det, (0.1 * 2 + 0.1 * 1) / det];
+    const tolerance = 1e-7;
+    const calls: Array<{ x: number[]; mayBeLast: boolean }> = [];
+    const P = (x: number[], mayBeLast: boolean) => { calls.push({ x, mayBeLast }); return affine(m, c)(x); };
+    const cold = shootPeriodicOrbit([0, 0], P, { scales: [1, 1], tolerance });
+    const coldCalls = calls.length;
+    calls.length = 0;
+    const ahead = shootPeriodicOrbit([0, 0], P, { scales: [1, 1], tolerance, startEvaluated: affine(m, c)([0, 0]) });
+    expect(cold.outcome).toBe('settled');
+    expect(ahead.outcome).toBe('settled');
+    expect(cold.cycles).toBe(coldCalls);
+    expect(ahead.cycles).toBe(calls.length);
+    expect(ahead.cycles).toBeLessThan(cold.cycles);
+    // Flagged only after a quiet step: not the first evaluation, but the last, which settled it
+    // and started on the orbit.
+    const last = calls.at(-1)!;
+    expect(calls[0]!.mayBeLast).toBe(false);
+    expect(last.mayBeLast).toBe(true);
+    last.x.forEach((v, i) => expect(Math.abs(v - fixed[i]!), `component ${i}`).toBeLessThan(tolerance));
+  });
+
   it('hands back to the cycle loop when the devices at the period start change', () => {
     let calls = 0;
     const result = shootPeriodicOrbit([0], (x) => ({ end: [0.5 * x[0]! + 1], sameStart: ++calls < 3 }), { scales: [1], tolerance: 1e-12 });
