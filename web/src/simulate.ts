@@ -15,6 +15,11 @@ import { hooks, state, type TimeWindow } from './state.js';
 
 /** The pause after the last keystroke before an edit re-simulates by itself, ms. */
 export const LIVE_PAUSE_MS = 300;
+/**
+ * The busy counter shows once a run has taken this long: a quick re-plot needs none, and its
+ * animation cost the browser CPU time that the server's two workers were using (with no GPU).
+ */
+const BUSY_SHOWN_AFTER_MS = 400;
 
 const run = {
   sequence: 0,
@@ -22,6 +27,7 @@ const run = {
   count: 0,
   liveTimer: 0,
   busyTimer: 0,
+  busyShowTimer: 0,
   editedSinceRun: false,
   stale: false,
   statusText: '',
@@ -53,15 +59,18 @@ function columnsForPlot(): number {
 function setBusy(on: boolean, startedAt: number): void {
   document.body.dataset.state = on ? 'busy' : document.body.dataset.state ?? 'idle';
   runButton.disabled = on;
-  $('#busy').hidden = !on;
   window.clearInterval(run.busyTimer);
-  if (!on) { syncViewButtons(); return; }
+  window.clearTimeout(run.busyShowTimer);
+  if (!on) { $('#busy').hidden = true; syncViewButtons(); return; }
   button('#zoom-turnoff').disabled = true;
   button('#zoom-whole').disabled = true;
   const tick = (): void => { $('#busy-time').textContent = `${((performance.now() - startedAt) / 1000).toFixed(1)} s`; };
-  tick();
-  // 50 ms keeps the counter visibly alive.
-  run.busyTimer = window.setInterval(tick, 50);
+  run.busyShowTimer = window.setTimeout(() => {
+    tick();
+    $('#busy').hidden = false;
+    // 100 ms keeps the counter visibly alive.
+    run.busyTimer = window.setInterval(tick, 100);
+  }, BUSY_SHOWN_AFTER_MS);
 }
 
 /** Stops a waiting live run and the request in flight (a new scenario is being loaded). */
@@ -155,23 +164,30 @@ function setResultsStale(stale: boolean): void {
   renderStatus();
 }
 
+/** Once the browser is idle (after the answer's plots are painted). */
+function afterIdle(work: () => void): void {
+  if (typeof window.requestIdleCallback === 'function') window.requestIdleCallback(() => work(), { timeout: 500 });
+  else setTimeout(work, 50);
+}
+
 /**
- * The form changed: after a pause of LIVE_PAUSE_MS without another change, `afterPause` runs (the
- * link follows the form) and, when every field reads as a number, the form re-simulates.
+ * The form changed: after a pause of LIVE_PAUSE_MS without another change, the form re-simulates
+ * when every field reads as a number, and `afterPause` runs (the link follows the form): once the
+ * run is answered and drawn, so that its work delays neither the request nor the plots.
  */
 export function scheduleLiveRun(afterPause: () => void): void {
   window.clearTimeout(run.liveTimer);
   run.editedSinceRun = true;
   run.liveTimer = window.setTimeout(() => {
-    afterPause();
     const unreadable = unreadableField();
     if (unreadable) {
+      afterPause();
       run.waiting = `Not re-simulated: “${unreadable}” does not read as a number yet.`;
       renderStatus();
       return;
     }
     run.waiting = '';
-    void simulate({ live: true });
+    void simulate({ live: true }).finally(() => afterIdle(afterPause));
   }, LIVE_PAUSE_MS);
   if (state.last && !run.waiting) { run.waiting = 'The form changed: re-simulating after a short pause.'; renderStatus(); }
 }
