@@ -176,7 +176,8 @@ export function clearFieldError(path: string): void {
 }
 
 export function clearFieldErrors(): void {
-  for (const box of $all('.field-error', form)) { box.replaceChildren(); box.hidden = true; }
+  // Only the boxes in use: rewriting every field's box restyled the whole form at each run.
+  for (const box of $all('.field-error', form)) if (!box.hidden || box.firstChild) { box.replaceChildren(); box.hidden = true; }
   // Curve points share one box per row, so their inputs are not found by the box's path.
   for (const input of $all('[aria-invalid]', form)) input.removeAttribute('aria-invalid');
 }

@@ -10,6 +10,7 @@ export type Line = string | ApiIssue;
 
 /** Lines in a message area; `tone` 'note' is for load remarks that are not failures. */
 export function showMessages(area: HTMLElement, lines: readonly Line[], tone: 'error' | 'note' = 'error'): void {
+  if (lines.length === 0 && area.hidden && !area.firstChild) return;
   area.replaceChildren(...lines.map((line) => (typeof line === 'string' ? el('p', { text: line }) : el('p', {}, el('code', { text: line.path }), ` ${line.message}`))));
   area.hidden = lines.length === 0;
   area.dataset.tone = tone;
