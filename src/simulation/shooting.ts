@@ -13,15 +13,18 @@ export interface PeriodMapResult {
   end: number[];
   /** The next period starts in the same devices' state as this one did (the map stays smooth). */
   sameStart: boolean;
+  /** Evaluated at the looser tolerance (see PeriodMap): it steers, but never settles the orbit. */
+  rough?: boolean;
 }
 
 /**
  * The period map: the state one period after x. `mayBeLast`: if this evaluation is quiet too, the
  * shooting settles with it, and x is then within the tolerance of the orbit as well (its change and
  * the step still to go were below it): the caller may record the cycle it runs and keep it as the
- * first cycle on the orbit.
+ * first cycle on the orbit. `rough`: x is still far from the orbit (the last change was above
+ * ROUGH_ABOVE × the tolerance), so a looser solver tolerance serves.
  */
-export type PeriodMap = (x: number[], mayBeLast: boolean) => PeriodMapResult;
+export type PeriodMap = (x: number[], mayBeLast: boolean, rough: boolean) => PeriodMapResult;
 
 export interface ShootingResult {
   /**
@@ -60,6 +63,12 @@ export interface ShootingOptions {
   startEvaluated?: PeriodMapResult;
 }
 
+/**
+ * Above this many tolerances of change, the next evaluation may be rough (see PeriodMap). On the
+ * demos' edits and cold starts, 30 and 300 took about as many evaluations; nearer the tolerance
+ * the rough map's error spoils the secant updates and costs extra cycles.
+ */
+const ROUGH_ABOVE = 100;
 /** Steps shorter than this fraction of the settle tolerance do not update the Jacobian estimate. */
 const NOISE_STEP_FRACTION = 0.3;
 
@@ -73,13 +82,14 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMa
   const fromScaled = (u: readonly number[]): number[] => u.map((v, i) => v * scales[i]!);
 
   let cycles = 0;
-  const evaluated = (u: readonly number[], r: PeriodMapResult): { f: number[]; end: number[]; ok: boolean } => {
+  type Evaluation = { f: number[]; end: number[]; ok: boolean; rough: boolean };
+  const evaluated = (u: readonly number[], r: PeriodMapResult): Evaluation => {
     const f = toScaled(r.end).map((v, i) => v - u[i]!);
-    return { f, end: r.end, ok: r.sameStart && f.every(Number.isFinite) };
+    return { f, end: r.end, ok: r.sameStart && f.every(Number.isFinite), rough: r.rough === true };
   };
   let quietSteps = 0;
-  const evaluate = (u: number[]): { f: number[]; end: number[]; ok: boolean } => {
-    const result = evaluated(u, periodMap(fromScaled(u), quietSteps === 1));
+  const evaluate = (u: number[], rough: boolean): Evaluation => {
+    const result = evaluated(u, periodMap(fromScaled(u), quietSteps === 1, rough && quietSteps === 0));
     cycles++;
     options.onCycle?.(cycles, maxAbs(result.f));
     return result;
@@ -89,7 +99,7 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMa
   const B = new Array<number>(n * n).fill(0);
   for (let i = 0; i < n; i++) B[i * n + i] = -1;
   let u = toScaled(start);
-  let current = options.startEvaluated ? evaluated(u, options.startEvaluated) : evaluate(u);
+  let current = options.startEvaluated ? evaluated(u, options.startEvaluated) : evaluate(u, false);
   // Progress is judged on the components the map reads: a forgotten one only follows them (its
   // change swings with a ring's phase at the next turn-on).
   const readChange = (f: readonly number[]): number => maxAbs(forgotten ? f.filter((_, i) => !forgotten[i]) : f);
@@ -101,20 +111,21 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMa
     const predicted = maxAbs(step);
     // On the orbit: this cycle's change and the distance still to go are both below the
     // tolerance, twice running (one lucky step proves nothing).
-    quietSteps = change < tolerance && predicted < tolerance ? quietSteps + 1 : 0;
+    quietSteps = change < tolerance && predicted < tolerance && !current.rough ? quietSteps + 1 : 0;
     if (quietSteps >= 2) {
       return { outcome: 'settled', x: fromScaled(u.map((v, i) => v + step[i]!)), cycles, lastChange: change, largestMultiplier: largestMultiplier(B, n) };
     }
     // Halve a step that made the change much larger: far from the orbit the rank-one model of the
     // map can overshoot (a mode sequence that changes mid-way).
     const changeRead = readChange(current.f);
+    const rough = changeRead > ROUGH_ABOVE * tolerance;
     let du = step;
     let uNext = u.map((v, i) => v + du[i]!);
-    let next = evaluate(uNext);
+    let next = evaluate(uNext, rough);
     for (let halvings = 0; halvings < 3 && next.ok && readChange(next.f) > 2 * Math.max(changeRead, tolerance); halvings++) {
       du = du.map((v) => v / 2);
       uNext = u.map((v, i) => v + du[i]!);
-      next = evaluate(uNext);
+      next = evaluate(uNext, rough);
     }
     // Broyden's update: B += (ΔF − B·Δu)·Δuᵀ / (Δuᵀ·Δu), Δu over the components the map reads.
     // Not from a step below a third of the tolerance: there ΔF is mostly the solver's error, and

@@ -94,6 +94,27 @@ describe('shootPeriodicOrbit(start, P, options)', () => {
     last.x.forEach((v, i) => expect(Math.abs(v - fixed[i]!), `component ${i}`).toBeLessThan(tolerance));
   });
 
+  it('settles on full evaluations only: rough ones (a looser solver, here 3 tolerances of noise) steer while the change is large', () => {
+    const m = [[0.8, 0.1], [0.05, 0.6]], c = [1, -1];
+    // (I − M)·x* = c by Cramer's rule.
+    const det = 0.2 * 0.4 - 0.1 * 0.05;
+    const fixed = [(1 * 0.4 + 0.1 * -1) / det, (0.2 * -1 + 0.05 * 1) / det];
+    const tolerance = 1e-6;
+    let seed = 7;
+    const noise = (): number => { seed = (seed * 16807) % 2147483647; return (seed / 2147483647 - 0.5) * 2 * 3 * tolerance; };
+    const calls: boolean[] = [];
+    const result = shootPeriodicOrbit([0, 0], (x, _mayBeLast, rough) => {
+      calls.push(rough);
+      const end = affine(m, c)(x).end;
+      return { end: rough ? end.map((v) => v + noise()) : end, sameStart: true, rough };
+    }, { scales: [1, 1], tolerance });
+    expect(result.outcome).toBe('settled');
+    result.x.forEach((v, i) => expect(Math.abs(v - fixed[i]!), `component ${i}`).toBeLessThan(tolerance));
+    // Rough while far (the start is about 1 away, 10⁶ tolerances), full for the last two.
+    expect(calls.some((rough) => rough)).toBe(true);
+    expect(calls.slice(-2)).toEqual([false, false]);
+  });
+
   it('hands back to the cycle loop when the devices at the period start change', () => {
     let calls = 0;
     const result = shootPeriodicOrbit([0], (x) => ({ end: [0.5 * x[0]! + 1], sameStart: ++calls < 3 }), { scales: [1], tolerance: 1e-12 });
