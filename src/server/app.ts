@@ -15,9 +15,10 @@ import {
   type HealthResponse, type ScenarioListResponse, type SimulateResponse, type SweepResponse,
 } from '../contract/api.js';
 import { issueAt, issueAtField, type PathKey } from '../contract/issues.js';
-import { availableVariants, type Scenario } from '../circuit/scenario.js';
+import { availableVariants, type Scenario, type VariantName } from '../circuit/scenario.js';
 import type { SimulateTask } from './simulate-task.js';
 import { simulateVariantsInParallel } from './simulate-parallel.js';
+import { JacobianMemory } from './jacobian-memory.js';
 import type { DesignTaskResult } from './design-task.js';
 import type { CaptureTaskResult } from './fit-task.js';
 import { MAX_FIT_SIMULATIONS } from '../capture/fit-model.js';
@@ -98,6 +99,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
   };
   const runTimeCapMs = options.runTimeCapMs ?? 20_000;
   const maxConcurrentRuns = options.maxConcurrentRuns ?? Math.max(1, availableParallelism());
+  const jacobianMemory = new JacobianMemory();
   const slots = new RunSlots(maxConcurrentRuns, options.maxQueuedRuns ?? 8, options.maxQueueWaitMs ?? 10_000);
   const workerHeapMb = options.workerHeapMb ?? WORKER_HEAP_CEILING_MB;
   const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', {
@@ -208,11 +210,21 @@ export function createServer(given: ServerOptions): FlyclampServer {
 
   app.post('/api/simulate', async (req, res) => {
     const { warnings, ...task } = readSimulateBody(req.body, runTimeCapMs);
-    const result = await admitted(res, runTimeCapMs, (signal) => simulateVariantsInParallel((t) => pool.run(t, { signal }), task));
+    const startJacobians = Object.fromEntries(task.variants.flatMap((v) => {
+      const state = task.startHints?.[v];
+      const jacobian = state ? jacobianMemory.recall(v, state) : undefined;
+      return jacobian ? [[v, jacobian]] : [];
+    }));
+    const result = await admitted(res, runTimeCapMs, (signal) => simulateVariantsInParallel((t) => pool.run(t, { signal }), { ...task, startJacobians }));
     if (!result.ok) throw failed(result.failure);
     const { problems } = soundVariants(result.report.variants);
     if (problems.length > 0) throw failed(problems.join('; '));
-    const answer: SimulateResponse = { ...result, warnings };
+    const { jacobians, ...shown } = result;
+    for (const [v, state] of Object.entries(shown.startStates) as Array<[VariantName, number[]]>) {
+      const jacobian = jacobians[v];
+      if (jacobian) jacobianMemory.remember(v, state, jacobian);
+    }
+    const answer: SimulateResponse = { ...shown, warnings };
     res.json(answer);
   });
 

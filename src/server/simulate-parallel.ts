@@ -27,5 +27,6 @@ export async function simulateVariantsInParallel(run: RunTask, task: SimulateTas
     report: { ...first.report, scenario: task.scenario.name, variants: Object.assign({}, ...done.map((p) => p.report.variants)) },
     traces: Object.assign({}, ...done.map((p) => p.traces)),
     startStates: Object.assign({}, ...done.map((p) => p.startStates)),
+    jacobians: Object.assign({}, ...done.map((p) => p.jacobians)),
   };
 }

@@ -19,6 +19,8 @@ export interface SimulateTask {
   operatingPointSettled?: boolean;
   /** Per variant, a period-start state to start from (an earlier answer's startStates): a warm start only. */
   startHints?: { [V in VariantName]?: number[] | undefined };
+  /** Per variant with a start hint, the Jacobian estimate of the run that answered it (VariantRun.jacobian). */
+  startJacobians?: { [V in VariantName]?: number[] | undefined };
 }
 
 export interface OperatingPointTask { scenario: Scenario; capMs: number }
@@ -43,9 +45,11 @@ export interface DisplayTraces {
 
 /** Per variant whose orbit settled, its period-start state on the orbit (the simulator's own units and order). */
 export type StartStates = Partial<Record<VariantName, number[]>>;
+/** Per variant whose shooting settled its orbit, the Jacobian estimate at its start state (kept by the server, not answered). */
+export type Jacobians = Partial<Record<VariantName, number[]>>;
 
 export type SimulateTaskResult =
-  | { ok: true; report: SimulationReport; traces: Partial<Record<VariantName, DisplayTraces>>; periodSeconds: number; recordedSeconds: number; startStates: StartStates }
+  | { ok: true; report: SimulationReport; traces: Partial<Record<VariantName, DisplayTraces>>; periodSeconds: number; recordedSeconds: number; startStates: StartStates; jacobians: Jacobians }
   | { ok: false; failure: string };
 
 export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
@@ -55,9 +59,10 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
     const scenario = task.operatingPointSettled ? task.scenario : settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
     for (const v of task.variants) {
       const startHint = task.startHints?.[v];
+      const startJacobian = startHint ? task.startJacobians?.[v] : undefined;
       // One recorded cycle of a settled orbit gives every metric and, repeated, the plot (see
       // repeatCycle): recording the scenario's cycles took a fifth to a quarter of an edit's work.
-      runs.push(runVariant(scenario, v, { deadlineMs, recordedCyclesWhenSettled: 1, ...(startHint ? { startHint } : {}) }));
+      runs.push(runVariant(scenario, v, { deadlineMs, recordedCyclesWhenSettled: 1, ...(startHint ? { startHint } : {}), ...(startJacobian ? { startJacobian } : {}) }));
     }
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
@@ -69,9 +74,11 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const end = task.window?.endSeconds ?? recordedSeconds;
   const traces: Partial<Record<VariantName, DisplayTraces>> = {};
   const startStates: StartStates = {};
+  const jacobians: Jacobians = {};
   const drawnCycles = task.scenario.simulation.recordedCycles;
   for (const run of runs) {
     if (run.orbit === 'settled') startStates[run.variant] = run.startState;
+    if (run.orbit === 'settled' && run.jacobian) jacobians[run.variant] = run.jacobian;
     const { timeSeconds, channels } = run.recorder.waveform;
     const copies = run.recordedCycles === 1 ? drawnCycles : 1;
     const shown = (values: ArrayLike<number>): ReducedTrace => {
@@ -87,5 +94,5 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
     if (run.params.clamp) entry.clampVoltage = shown(channels.clampVoltage);
     traces[run.variant] = entry;
   }
-  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds, startStates };
+  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds, startStates, jacobians };
 }

@@ -47,6 +47,11 @@ export interface VariantRun {
   startState: number[];
   /** The run started from RunOptions.startHint. */
   startedFromHint: boolean;
+  /**
+   * When the shooting settled the orbit: its Jacobian estimate of the period map (scaled,
+   * row-major), a RunOptions.startJacobian for a nearby run from startState.
+   */
+  jacobian?: number[];
   recorder: CycleRecorder;
   stats: RunStats;
 }
@@ -66,6 +71,8 @@ export interface RunOptions {
    * so that the answer does not depend on it beyond the settle tolerance.
    */
   startHint?: readonly number[];
+  /** With startHint: the Jacobian estimate of the run it came from (VariantRun.jacobian), only a guess too. */
+  startJacobian?: readonly number[];
   /**
    * Accelerate the settling (default true): shooting for the periodic orbit after a few cycles,
    * and, cycle by cycle, jumps ahead along the slowest mode. False: plain cycle after cycle.
@@ -384,6 +391,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
   // A hint far from the orbit may hand the first shooting back: a second one follows the usual warm-up.
   let shootingsLeft = hint ? 2 : 1;
   let finalChange: number | null = null;
+  let jacobian: number[] | undefined;
   // The last plain cycle's start and devices' state: the shooting's first evaluation when the cycle
   // ended in the state it started in.
   let lastPlain: { start: number[]; key: string; rough: boolean } | null = null;
@@ -417,6 +425,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
         return { end: [...x], sameStart: startKey(mode) === startKey(startMode), rough };
       }, {
         scales, tolerance: settings.settleTolerance, forgotten,
+        ...(hint && options.startJacobian ? { initialJacobian: options.startJacobian } : {}),
         ...(reuse ? { startEvaluated: { end: [...x], sameStart: true, rough: reuse.rough } } : {}),
         onCycle: (n, change) => options.onCycle?.(cycles + n, change),
       });
@@ -426,6 +435,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
         recordedByShooting = last.recording;
         verdict = 'settled';
         finalChange = shot.lastChange;
+        jacobian = shot.jacobian;
         break;
       }
       if (shot.outcome === 'settled' && (shot.largestMultiplier! < MULTIPLIER_TRUSTED || attracts(shot.x, startMode))) {
@@ -433,6 +443,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
         mode = startMode;
         verdict = 'settled';
         finalChange = shot.lastChange;
+        jacobian = shot.jacobian;
         break;
       }
       // Cycle by cycle from where the shooting (or the try) stopped; the tracker measures changes from there.
@@ -463,6 +474,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
   return {
     variant, params, orbit: verdict, cycles, recordedCycles: made.cycles.length,
     finalChange: finalChange ?? tracker.lastChange, startState, startedFromHint: hint !== null, recorder: made, stats,
+    ...(jacobian ? { jacobian } : {}),
   };
 }
 

@@ -39,6 +39,8 @@ export interface ShootingResult {
   lastChange: number;
   /** When settled: the largest multiplier of the map's Jacobian estimate (≥ 1 suggests an unstable orbit). */
   largestMultiplier?: number;
+  /** When settled: the Jacobian estimate of P(x) − x at the end, scaled, row-major (see initialJacobian). */
+  jacobian?: number[];
   reason?: string;
 }
 
@@ -61,6 +63,12 @@ export interface ShootingOptions {
    * devices' state): the shooting begins there, one evaluation and one secant ahead.
    */
   startEvaluated?: PeriodMapResult;
+  /**
+   * A Jacobian estimate to start from instead of −I (a nearby orbit's `jacobian`): the secant
+   * updates then refine what it learned. Ignored unless it has n² finite entries; the forgotten
+   * components' columns stay −I.
+   */
+  initialJacobian?: readonly number[];
 }
 
 /**
@@ -98,6 +106,10 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMa
   // B ≈ ∂F/∂u in scaled units, row-major; −I at first.
   const B = new Array<number>(n * n).fill(0);
   for (let i = 0; i < n; i++) B[i * n + i] = -1;
+  const given = options.initialJacobian;
+  if (given && given.length === n * n && given.every(Number.isFinite)) {
+    for (let j = 0; j < n; j++) if (!forgotten?.[j]) for (let i = 0; i < n; i++) B[i * n + j] = given[i * n + j]!;
+  }
   let u = toScaled(start);
   let current = options.startEvaluated ? evaluated(u, options.startEvaluated) : evaluate(u, false);
   // Progress is judged on the components the map reads: a forgotten one only follows them (its
@@ -113,7 +125,7 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMa
     // tolerance, twice running (one lucky step proves nothing).
     quietSteps = change < tolerance && predicted < tolerance && !current.rough ? quietSteps + 1 : 0;
     if (quietSteps >= 2) {
-      return { outcome: 'settled', x: fromScaled(u.map((v, i) => v + step[i]!)), cycles, lastChange: change, largestMultiplier: largestMultiplier(B, n) };
+      return { outcome: 'settled', x: fromScaled(u.map((v, i) => v + step[i]!)), cycles, lastChange: change, largestMultiplier: largestMultiplier(B, n), jacobian: [...B] };
     }
     // Halve a step that made the change much larger: far from the orbit the rank-one model of the
     // map can overshoot (a mode sequence that changes mid-way).

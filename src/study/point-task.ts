@@ -18,10 +18,14 @@ export interface PointTask {
   capMs?: number;
   /** Per variant, a period-start state of a nearby point's orbit: a warm start only (RunOptions.startHint). */
   startHints?: StartStates;
+  /** Per variant with a start hint, that point's Jacobian estimate there (RunOptions.startJacobian). */
+  startJacobians?: Jacobians;
 }
 /** Per variant whose orbit settled, its period-start state (VariantRun.startState). */
 export type StartStates = Partial<Record<VariantName, number[]>>;
-export type PointResult = { ok: true; report: SimulationReport; startStates: StartStates } | { ok: false; failure: string };
+/** Per variant whose shooting settled its orbit, the Jacobian estimate at its start state (VariantRun.jacobian). */
+export type Jacobians = Partial<Record<VariantName, number[]>>;
+export type PointResult = { ok: true; report: SimulationReport; startStates: StartStates; jacobians: Jacobians } | { ok: false; failure: string };
 
 export function runPointTask(task: PointTask): PointResult {
   const validated = validateScenario(task.scenarioJson);
@@ -33,13 +37,19 @@ export function runPointTask(task: PointTask): PointResult {
     const scenario = settleOperatingPoint(validated.scenario, options).scenario;
     const runs = (task.variants ?? availableVariants(scenario)).map((v) => {
       const startHint = task.startHints?.[v];
-      return runVariant(scenario, v, { ...options, ...(startHint ? { startHint } : {}) });
+      const startJacobian = startHint ? task.startJacobians?.[v] : undefined;
+      return runVariant(scenario, v, { ...options, ...(startHint ? { startHint } : {}), ...(startJacobian ? { startJacobian } : {}) });
     });
     const report = simulationReport(scenario, runs);
     const { problems } = soundVariants(report.variants);
     const startStates: StartStates = {};
-    for (const run of runs) if (run.orbit === 'settled') startStates[run.variant] = run.startState;
-    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report, startStates };
+    const jacobians: Jacobians = {};
+    for (const run of runs) {
+      if (run.orbit !== 'settled') continue;
+      startStates[run.variant] = run.startState;
+      if (run.jacobian) jacobians[run.variant] = run.jacobian;
+    }
+    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report, startStates, jacobians };
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;

@@ -96,6 +96,29 @@ describe('HTTP API', () => {
     expect((await crossed.json() as Answer).report.variants.clamp!.peakDrainVoltage).toBeCloseTo(coldBody.report.variants.clamp!.peakDrainVoltage, 6);
   }, 60_000);
 
+  it('POST /api/simulate: an edit sent with the last answer\'s startStates also starts from the Jacobian estimates the server kept for them (fewer cycles than a server without them, the same answer); the answer carries only the states', async () => {
+    type Answer = { report: { variants: Record<string, { peakDrainVoltage: number; cycles: number; settled: boolean }> }; startStates: Record<string, number[]> };
+    const scenario = await demo('gate-drive-24v');
+    const first = await (await post(s.base, { scenario })).json() as Answer & Record<string, unknown>;
+    expect(Object.keys(first)).not.toContain('jacobians');
+    (scenario.transformer as Record<string, unknown>).leakageInductance = '420n';
+    const kept = await (await post(s.base, { scenario, startStates: first.startStates })).json() as Answer;
+    const fresh = await start();
+    try {
+      const plain = await (await post(fresh.base, { scenario, startStates: first.startStates })).json() as Answer;
+      const cycles = (a: Answer): number => Object.values(a.report.variants).reduce((sum, v) => sum + v.cycles, 0);
+      expect(cycles(kept)).toBeLessThan(cycles(plain));
+      for (const [v, a] of Object.entries(plain.report.variants)) {
+        const b = kept.report.variants[v]!;
+        expect(b.settled).toBe(true);
+        // Both within the settle tolerance (1e-5 of the state scales) of one orbit.
+        expect(Math.abs(b.peakDrainVoltage - a.peakDrainVoltage), v).toBeLessThan(1e-4 * a.peakDrainVoltage);
+      }
+    } finally {
+      await stop(fresh);
+    }
+  }, 60_000);
+
   it('POST /api/simulate answers 400 naming each bad field, as the CLI does', async () => {
     const scenario = await demo('bias-48v');
     (scenario.transformer as Record<string, unknown>).leakageInductance = '-1u';

@@ -115,6 +115,25 @@ describe('shootPeriodicOrbit(start, P, options)', () => {
     expect(calls.slice(-2)).toEqual([false, false]);
   });
 
+  it('from a Jacobian estimate given (a nearby orbit\'s), takes Newton steps at once; the forgotten components\' columns of the estimate are not used', () => {
+    // An affine map: F(u) = (M − I)·u + c exactly, so with that Jacobian the first step lands on
+    // the fixed point, and two quiet evaluations follow.
+    const m = [[0.95, 0.2, 0], [-0.1, 0.7, 0], [3, 1, 0]], c = [1, 2, 0.5];
+    const scales = [1, 1, 1];
+    const exact = [m[0]![0]! - 1, m[0]![1]!, m[0]![2]!, m[1]![0]!, m[1]![1]! - 1, m[1]![2]!, m[2]![0]!, m[2]![1]!, m[2]![2]! - 1];
+    // The third component is forgotten (M's third column is 0): a wrong column there must not matter.
+    const given = exact.map((v, k) => (k % 3 === 2 ? 1e6 : v));
+    const cold = shootPeriodicOrbit([0, 0, 0], affine(m, c), { scales, tolerance: 1e-9, forgotten: [false, false, true] });
+    const warm = shootPeriodicOrbit([0, 0, 0], affine(m, c), { scales, tolerance: 1e-9, forgotten: [false, false, true], initialJacobian: given });
+    expect(cold.outcome).toBe('settled');
+    expect(warm.outcome).toBe('settled');
+    expect(warm.cycles).toBe(3);
+    expect(cold.cycles).toBeGreaterThan(warm.cycles);
+    warm.x.forEach((v, i) => expect(Math.abs(v - cold.x[i]!), `component ${i}`).toBeLessThan(1e-8));
+    // The estimate it ends with is the one to pass on: here still the exact one (the steps confirmed it).
+    warm.jacobian!.forEach((v, k) => { if (k % 3 !== 2) expect(v).toBeCloseTo(exact[k]!, 9); });
+  });
+
   it('hands back to the cycle loop when the devices at the period start change', () => {
     let calls = 0;
     const result = shootPeriodicOrbit([0], (x) => ({ end: [0.5 * x[0]! + 1], sameStart: ++calls < 3 }), { scales: [1], tolerance: 1e-12 });
