@@ -11,7 +11,7 @@ import { settledClampVoltage } from '../equations/rcd-clamp.js';
 import type { Scenario, SimulationSettings, VariantName } from '../circuit/scenario.js';
 import { ExactLinearSegmentIntegrator } from '../solver/exact-linear-segment.js';
 import { OdexSegmentIntegrator } from '../solver/odex-segment.js';
-import type { SegmentIntegrator } from '../solver/segment.js';
+import type { SegmentIntegrator, SegmentProblem, SegmentResult } from '../solver/segment.js';
 import { OrbitTracker, type OrbitKind } from './orbit.js';
 import { CycleRecorder } from './recorder.js';
 import { SettlingExtrapolator } from './extrapolate.js';
@@ -172,21 +172,28 @@ function usableStartHint(hint: readonly number[], params: CircuitParams, scales:
 function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): VariantRun {
   const { scenario, variant, params, model, stateSize, scales, started } = setup;
   const settings = scenario.simulation;
-  const integratorAt = (relativeTolerance: number): SegmentIntegrator => {
-    const atol = scales.map((s) => s * relativeTolerance);
-    return options.integrator?.(atol, { ...settings, relativeTolerance }, stateSize)
-      ?? new ExactLinearSegmentIntegrator({
-        nonlinear: new OdexSegmentIntegrator({
-          stateSize, relativeTolerance, absoluteTolerance: atol,
-          ...(kinkedField(params) ? { maxExtrapolationColumns: KINKED_FIELD_EXTRAPOLATION_COLUMNS } : {}),
-        }),
-      });
-  };
-  const fullIntegrator = integratorAt(settings.relativeTolerance);
   const roughTolerance = Math.min(ROUGH_RELATIVE_TOLERANCE_MAX, settings.relativeTolerance * ROUGH_TOLERANCE_FACTOR);
-  // Made at the first rough cycle; a cycle's accuracy is chosen as it starts (see runCycle).
-  let roughIntegrator: SegmentIntegrator | null = null;
+  const roughHelps = roughTolerance > settings.relativeTolerance;
+  // The exact propagators serve rough and full cycles alike (one set of matrix exponentials);
+  // only odex, for the nonlinear modes, runs at the cycle's tolerance (see runCycle).
+  const odexAt = (relativeTolerance: number): SegmentIntegrator => new OdexSegmentIntegrator({
+    stateSize, relativeTolerance, absoluteTolerance: scales.map((s) => s * relativeTolerance),
+    ...(kinkedField(params) ? { maxExtrapolationColumns: KINKED_FIELD_EXTRAPOLATION_COLUMNS } : {}),
+  });
+  const givenAt = (relativeTolerance: number): SegmentIntegrator | undefined =>
+    options.integrator?.(scales.map((s) => s * relativeTolerance), { ...settings, relativeTolerance }, stateSize);
+  const fullNonlinear = odexAt(settings.relativeTolerance);
+  let roughNonlinear: SegmentIntegrator | null = null;
+  const nonlinear = { current: fullNonlinear, integrate(problem: SegmentProblem): SegmentResult { return this.current.integrate(problem); } };
+  const fullIntegrator = givenAt(settings.relativeTolerance) ?? new ExactLinearSegmentIntegrator({ nonlinear });
+  let roughGiven: SegmentIntegrator | undefined;
   let integrator = fullIntegrator;
+  /** The integrator of a cycle, at the rough tolerance or at the scenario's. */
+  const useTolerance = (rough: boolean): void => {
+    const isRough = rough && roughHelps;
+    if (options.integrator) { integrator = isRough ? (roughGiven ??= givenAt(roughTolerance)!) : fullIntegrator; return; }
+    nonlinear.current = isRough ? (roughNonlinear ??= odexAt(roughTolerance)) : fullNonlinear;
+  };
 
   const period = params.periodSeconds / SECONDS_PER_TIME_UNIT;
   const leakageRingPeriod = leakageRingPeriodSeconds(params) / SECONDS_PER_TIME_UNIT;
@@ -293,7 +300,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
 
   /** One period from x in `mode`; `rough`: at the looser tolerance (a state far from the orbit). */
   const runCycle = (recording: boolean, rough = false): void => {
-    integrator = rough && roughTolerance > settings.relativeTolerance ? (roughIntegrator ??= integratorAt(roughTolerance)) : fullIntegrator;
+    useTolerance(rough);
     lastStepByMode.clear();
     recordingNow = recording;
     tripped = false;
