@@ -183,15 +183,23 @@ describe('the plotting page', () => {
         if (!document.getElementById('busy')!.hidden) seen.timer = document.getElementById('busy-time')!.textContent ?? '';
       }).observe(document.body, { subtree: true, childList: true, attributes: true, characterData: true });
     });
+    // The busy counter shows once a run has taken 0.4 s: this answer is held back for 0.8 s.
+    await page.route('**/api/simulate', async (route) => {
+      await new Promise((r) => setTimeout(r, 800));
+      await route.continue().catch(() => undefined);
+    });
     // Typed the way an engineer writes it: prefix, unit and a space ("2.4 µH").
     await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(2 * llk, 'H'));
     await page.press(`[data-path="${LEAKAGE}"]`, 'Enter');
     await waitForRuns(before + 1);
+    await page.unroute('**/api/simulate');
     expect(await page.evaluate(() => document.body.dataset.lastOutcome)).toBe('ok');
     const seen = await page.evaluate(() => (window as unknown as { busySeen: { disabled: boolean; timer: string } }).busySeen);
     expect(seen.disabled).toBe(true);
     expect(seen.timer).toMatch(/^\d+\.\d s$/);
+    expect(Number(seen.timer.replace(' s', ''))).toBeGreaterThanOrEqual(0.4);
     expect(await page.isDisabled('#run')).toBe(false);
+    expect(await page.isHidden('#busy')).toBe(true);
 
     const doubled = await tableValue('bare', 'peakDrainVoltage');
     expect(doubled).toBeGreaterThan(barePeak);
