@@ -49,7 +49,7 @@ export interface RunOptions {
 /**
  * Plot columns: one per device pixel of the plot. Each column sends its minimum and its maximum,
  * so the line drawn through them covers every pixel a full-resolution trace would; more columns
- * only give plotly more points to draw (two per CSS pixel cost an edit about 30 ms more).
+ * only give plotly more points to draw and the answer more bytes.
  */
 function columnsForPlot(): number {
   const width = $('#drain-plot').clientWidth || 900;
