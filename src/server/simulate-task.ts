@@ -5,7 +5,7 @@ import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { reduceForDisplay, repeatCycle, roundForDisplay, type ReducedTrace } from '../analysis/display-reduction.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
-import { runVariant, SimulationFailure, type VariantRun } from '../simulation/run-variant.js';
+import { runVariant, SimulationFailure, warmStartOptions, warmStartsOf, type Jacobians, type StartStates, type VariantRun } from '../simulation/run-variant.js';
 
 export interface SimulateTask {
   scenario: Scenario;
@@ -20,7 +20,7 @@ export interface SimulateTask {
   /** Per variant, a period-start state to start from (an earlier answer's startStates): a warm start only. */
   startHints?: { [V in VariantName]?: number[] | undefined };
   /** Per variant with a start hint, the Jacobian estimate of the run that answered it (VariantRun.jacobian). */
-  startJacobians?: { [V in VariantName]?: number[] | undefined };
+  startJacobians?: Jacobians;
 }
 
 export interface OperatingPointTask { scenario: Scenario; capMs: number }
@@ -43,10 +43,8 @@ export interface DisplayTraces {
   turnOffSeconds: number[];
 }
 
-/** Per variant whose orbit settled, its period-start state on the orbit (the simulator's own units and order). */
-export type StartStates = Partial<Record<VariantName, number[]>>;
-/** Per variant whose shooting settled its orbit, the Jacobian estimate at its start state (kept by the server, not answered). */
-export type Jacobians = Partial<Record<VariantName, number[]>>;
+// The start states are answered (the simulator's own units and order); the Jacobians are kept by the server.
+export type { StartStates, Jacobians };
 
 export type SimulateTaskResult =
   | { ok: true; report: SimulationReport; traces: Partial<Record<VariantName, DisplayTraces>>; periodSeconds: number; recordedSeconds: number; startStates: StartStates; jacobians: Jacobians }
@@ -58,11 +56,9 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   try {
     const scenario = task.operatingPointSettled ? task.scenario : settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
     for (const v of task.variants) {
-      const startHint = task.startHints?.[v];
-      const startJacobian = startHint ? task.startJacobians?.[v] : undefined;
       // One recorded cycle of a settled orbit gives every metric and, repeated, the plot (see
       // repeatCycle): recording the scenario's cycles took a fifth to a quarter of an edit's work.
-      runs.push(runVariant(scenario, v, { deadlineMs, recordedCyclesWhenSettled: 1, ...(startHint ? { startHint } : {}), ...(startJacobian ? { startJacobian } : {}) }));
+      runs.push(runVariant(scenario, v, { deadlineMs, recordedCyclesWhenSettled: 1, ...warmStartOptions(v, task.startHints, task.startJacobians) }));
     }
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
@@ -73,12 +69,8 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const start = task.window?.startSeconds ?? 0;
   const end = task.window?.endSeconds ?? recordedSeconds;
   const traces: Partial<Record<VariantName, DisplayTraces>> = {};
-  const startStates: StartStates = {};
-  const jacobians: Jacobians = {};
   const drawnCycles = task.scenario.simulation.recordedCycles;
   for (const run of runs) {
-    if (run.orbit === 'settled') startStates[run.variant] = run.startState;
-    if (run.orbit === 'settled' && run.jacobian) jacobians[run.variant] = run.jacobian;
     const { timeSeconds, channels } = run.recorder.waveform;
     const copies = run.recordedCycles === 1 ? drawnCycles : 1;
     const shown = (values: ArrayLike<number>): ReducedTrace => {
@@ -94,5 +86,5 @@ export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
     if (run.params.clamp) entry.clampVoltage = shown(channels.clampVoltage);
     traces[run.variant] = entry;
   }
-  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds, startStates, jacobians };
+  return { ok: true, report: simulationReport(task.scenario, runs), traces, periodSeconds: period, recordedSeconds, ...warmStartsOf(runs) };
 }

@@ -89,6 +89,34 @@ export interface RunOptions {
   onCycle?: (cycles: number, change: number) => void;
 }
 
+/** Per variant whose orbit settled, its period-start state on the orbit (VariantRun.startState). */
+export type StartStates = Partial<Record<VariantName, number[]>>;
+/** Per variant whose shooting settled its orbit, the Jacobian estimate at that state (VariantRun.jacobian). */
+export type Jacobians = Partial<Record<VariantName, number[]>>;
+
+/** Numbers per variant as a request may carry them (a key present with no value). */
+type PerVariantNumbers = { [V in VariantName]?: number[] | undefined };
+
+/** What settled runs hand nearby runs as warm starts. */
+export function warmStartsOf(runs: readonly VariantRun[]): { startStates: StartStates; jacobians: Jacobians } {
+  const startStates: StartStates = {};
+  const jacobians: Jacobians = {};
+  for (const run of runs) {
+    if (run.orbit !== 'settled') continue;
+    startStates[run.variant] = run.startState;
+    if (run.jacobian) jacobians[run.variant] = run.jacobian;
+  }
+  return { startStates, jacobians };
+}
+
+/** A variant's warm start as run options: its start state and, with it, the Jacobian estimate there. */
+export function warmStartOptions(variant: VariantName, startStates?: PerVariantNumbers, jacobians?: PerVariantNumbers): Pick<RunOptions, 'startHint' | 'startJacobian'> {
+  const startHint = startStates?.[variant];
+  if (!startHint) return {};
+  const startJacobian = jacobians?.[variant];
+  return startJacobian ? { startHint, startJacobian } : { startHint };
+}
+
 const MAX_EVENTS_PER_CYCLE = 20_000;
 
 /**

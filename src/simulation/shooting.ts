@@ -97,7 +97,7 @@ export function shootPeriodicOrbit(start: readonly number[], periodMap: PeriodMa
   };
   let quietSteps = 0;
   const evaluate = (u: number[], rough: boolean): Evaluation => {
-    const result = evaluated(u, periodMap(fromScaled(u), quietSteps === 1, rough && quietSteps === 0));
+    const result = evaluated(u, periodMap(fromScaled(u), quietSteps === 1, rough));
     cycles++;
     options.onCycle?.(cycles, maxAbs(result.f));
     return result;

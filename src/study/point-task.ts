@@ -5,7 +5,7 @@ import { validateScenario, formatIssues } from '../circuit/validate-scenario.js'
 import { availableVariants, type VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { soundVariants } from '../analysis/result-checks.js';
-import { runVariant, SimulationFailure } from '../simulation/run-variant.js';
+import { runVariant, SimulationFailure, warmStartOptions, warmStartsOf, type Jacobians, type StartStates } from '../simulation/run-variant.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
 
 export interface PointTask {
@@ -21,10 +21,7 @@ export interface PointTask {
   /** Per variant with a start hint, that point's Jacobian estimate there (RunOptions.startJacobian). */
   startJacobians?: Jacobians;
 }
-/** Per variant whose orbit settled, its period-start state (VariantRun.startState). */
-export type StartStates = Partial<Record<VariantName, number[]>>;
-/** Per variant whose shooting settled its orbit, the Jacobian estimate at its start state (VariantRun.jacobian). */
-export type Jacobians = Partial<Record<VariantName, number[]>>;
+export type { StartStates, Jacobians };
 export type PointResult = { ok: true; report: SimulationReport; startStates: StartStates; jacobians: Jacobians } | { ok: false; failure: string };
 
 export function runPointTask(task: PointTask): PointResult {
@@ -36,20 +33,11 @@ export function runPointTask(task: PointTask): PointResult {
   try {
     const scenario = settleOperatingPoint(validated.scenario, options).scenario;
     const runs = (task.variants ?? availableVariants(scenario)).map((v) => {
-      const startHint = task.startHints?.[v];
-      const startJacobian = startHint ? task.startJacobians?.[v] : undefined;
-      return runVariant(scenario, v, { ...options, ...(startHint ? { startHint } : {}), ...(startJacobian ? { startJacobian } : {}) });
+      return runVariant(scenario, v, { ...options, ...warmStartOptions(v, task.startHints, task.startJacobians) });
     });
     const report = simulationReport(scenario, runs);
     const { problems } = soundVariants(report.variants);
-    const startStates: StartStates = {};
-    const jacobians: Jacobians = {};
-    for (const run of runs) {
-      if (run.orbit !== 'settled') continue;
-      startStates[run.variant] = run.startState;
-      if (run.jacobian) jacobians[run.variant] = run.jacobian;
-    }
-    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report, startStates, jacobians };
+    return problems.length > 0 ? { ok: false, failure: problems.join('; ') } : { ok: true, report, ...warmStartsOf(runs) };
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;
