@@ -57,6 +57,8 @@ export interface VariantMetrics {
     events: number;
     wallTimeMs: number;
     finalCycleChange: number;
+    /** odex's relative tolerance on the orbit: the scenario's, or tighter where the solver's noise kept the settling from the settle tolerance. */
+    relativeTolerance: number;
   };
 }
 
@@ -132,6 +134,7 @@ export function variantMetrics(run: VariantRun, voltageRating: number): VariantM
       events: run.stats.events,
       wallTimeMs: run.stats.wallTimeMs,
       finalCycleChange: run.finalChange,
+      relativeTolerance: run.stats.relativeTolerance,
     },
   };
   if (p.clamp) {

@@ -32,6 +32,8 @@ export interface RunStats {
   steps: number;
   events: number;
   wallTimeMs: number;
+  /** odex's relative tolerance on the orbit: the scenario's, or tighter where its noise kept the shooting from settling. */
+  relativeTolerance: number;
 }
 
 export interface VariantRun {
@@ -144,6 +146,13 @@ const SHOOTING_WARM_UP_CYCLES_FROM_HINT = 1;
  */
 const ROUGH_TOLERANCE_FACTOR = 100;
 const ROUGH_RELATIVE_TOLERANCE_MAX = 1e-4;
+/**
+ * A shooting bound by the map's noise (see ShootingResult.noiseBound) shoots again with odex's
+ * relative tolerance divided by this, at most MAX_TIGHTENINGS times: an orbit that does not settle
+ * at 100× the scenario's accuracy keeps the cycle loop's verdict.
+ */
+const TIGHTENING_FACTOR = 10;
+const MAX_TIGHTENINGS = 2;
 /** A start hint's values may be at most this many state scales in size (an orbit's are a few at most). */
 export const START_HINT_SCALES = 20;
 /** Below this largest multiplier the shooting's orbit is taken as attracting without a try. */
@@ -210,10 +219,11 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
   });
   const givenAt = (relativeTolerance: number): SegmentIntegrator | undefined =>
     options.integrator?.(scales.map((s) => s * relativeTolerance), { ...settings, relativeTolerance }, stateSize);
-  const fullNonlinear = odexAt(settings.relativeTolerance);
+  let fullTolerance = settings.relativeTolerance;
+  let fullNonlinear = odexAt(fullTolerance);
   let roughNonlinear: SegmentIntegrator | null = null;
   const nonlinear = { current: fullNonlinear, integrate(problem: SegmentProblem): SegmentResult { return this.current.integrate(problem); } };
-  const fullIntegrator = givenAt(settings.relativeTolerance) ?? new ExactLinearSegmentIntegrator({ nonlinear });
+  let fullIntegrator = givenAt(fullTolerance) ?? new ExactLinearSegmentIntegrator({ nonlinear });
   let roughGiven: SegmentIntegrator | undefined;
   let integrator = fullIntegrator;
   /** The integrator of a cycle, at the rough tolerance or at the scenario's. */
@@ -221,6 +231,13 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     const isRough = rough && roughHelps;
     if (options.integrator) { integrator = isRough ? (roughGiven ??= givenAt(roughTolerance)!) : fullIntegrator; return; }
     nonlinear.current = isRough ? (roughNonlinear ??= odexAt(roughTolerance)) : fullNonlinear;
+  };
+  /** The full-accuracy cycles from now on at a tighter tolerance (the rough ones stay as they are). */
+  const tighten = (): void => {
+    fullTolerance /= TIGHTENING_FACTOR;
+    fullNonlinear = odexAt(fullTolerance);
+    if (options.integrator) fullIntegrator = givenAt(fullTolerance)!;
+    useTolerance(false);
   };
 
   const period = params.periodSeconds / SECONDS_PER_TIME_UNIT;
@@ -237,7 +254,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
   let recorder: CycleRecorder | undefined;
   const newRecorder = (cycleCount: number): CycleRecorder => new CycleRecorder(params, period, cycleCount, samplesPerCycle, ringPeriod);
 
-  const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0 };
+  const stats: RunStats = { derivativeEvaluations: 0, steps: 0, events: 0, wallTimeMs: 0, relativeTolerance: fullTolerance };
   // Each mode's last step, a cycle's first step in it when it comes back. Cleared at each period
   // start: a step carried over from an earlier cycle made the period map depend on the cycles run
   // before, not on its start state alone. Near the orbit that scatter (in the drain voltage at the
@@ -425,6 +442,9 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     ? (hint ? SHOOTING_WARM_UP_CYCLES_FROM_HINT : SHOOTING_WARM_UP_CYCLES) : Infinity;
   // A hint far from the orbit may hand the first shooting back: a second one follows the usual warm-up.
   let shootingsLeft = hint ? 2 : 1;
+  let tightenings = 0;
+  // The shooting's first Jacobian estimate: the hint's, or that of a shooting bound by noise.
+  let shootingJacobian = hint ? options.startJacobian : undefined;
   let finalChange: number | null = null;
   let jacobian: number[] | undefined;
   // The last plain cycle's start and devices' state: the shooting's first evaluation when the cycle
@@ -460,7 +480,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
         return { end: [...x], sameStart: startKey(mode) === startKey(startMode), rough };
       }, {
         scales, tolerance: settings.settleTolerance, forgotten,
-        ...(hint && options.startJacobian ? { initialJacobian: options.startJacobian } : {}),
+        ...(shootingJacobian ? { initialJacobian: shootingJacobian } : {}),
         ...(reuse ? { startEvaluated: { end: [...x], sameStart: true, rough: reuse.rough } } : {}),
         onCycle: (n, change) => options.onCycle?.(cycles + n, change),
       });
@@ -484,7 +504,16 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
       // Cycle by cycle from where the shooting (or the try) stopped; the tracker measures changes from there.
       if (shot.outcome === 'handed-back') x = shot.x;
       tracker.replaceLatest(x);
-      if (shootingsLeft > 0) shootAfter = cycles + SHOOTING_WARM_UP_CYCLES;
+      if (shot.noiseBound && tightenings < MAX_TIGHTENINGS) {
+        // Near the orbit already: one cycle at the tighter tolerance, then the shooting again from
+        // what it learned (that cycle is its first evaluation).
+        tighten();
+        tightenings++;
+        stats.relativeTolerance = fullTolerance;
+        shootingJacobian = shot.jacobian;
+        shootingsLeft++;
+        shootAfter = cycles + 1;
+      } else if (shootingsLeft > 0) shootAfter = cycles + SHOOTING_WARM_UP_CYCLES;
       if (cycles >= settings.maxCycles) { verdict = 'cycle-cap'; break; }
     }
     const jumpsBefore = extrapolator.jumps;

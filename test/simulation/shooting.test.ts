@@ -134,6 +134,40 @@ describe('shootPeriodicOrbit(start, P, options)', () => {
     warm.jacobian!.forEach((v, k) => { if (k % 3 !== 2) expect(v).toBeCloseTo(exact[k]!, 9); });
   });
 
+  it('hands back as bound by noise when the map\'s error is about the tolerance, with what it learned; from that, a quieter map settles in a few evaluations', () => {
+    // P(x) = M·x + c plus seeded noise of ±3 tolerances on every evaluation: no step can make two
+    // evaluations running quiet, so more iterations only spend cycles. Fixed point by Cramer's rule.
+    const m = [[0.9, 0.05], [0.1, 0.5]], c = [1, -1];
+    const det = (1 - 0.9) * (1 - 0.5) - 0.05 * 0.1;
+    const fixed = [(c[0]! * (1 - 0.5) + 0.05 * c[1]!) / det, ((1 - 0.9) * c[1]! + 0.1 * c[0]!) / det];
+    const tolerance = 1e-6;
+    const noisy = (amplitude: number) => {
+      let state = 7;
+      const noise = (): number => { state = (state * 16807) % 2147483647; return amplitude * tolerance * (2 * state / 2147483647 - 1); };
+      return (x: number[]) => ({ end: [m[0]![0]! * x[0]! + m[0]![1]! * x[1]! + c[0]! + noise(), m[1]![0]! * x[0]! + m[1]![1]! * x[1]! + c[1]! + noise()], sameStart: true });
+    };
+    const bound = shootPeriodicOrbit([0, 0], noisy(3), { scales: [1, 1], tolerance });
+    expect(bound.outcome).toBe('handed-back');
+    expect(bound.noiseBound).toBe(true);
+    // Well before the 40-iteration budget: six evaluations near the orbit, after the few that get there.
+    expect(bound.cycles).toBeLessThanOrEqual(15);
+    // Near the orbit: the map's error over 1 − λ of its slow mode (0.9 here), 30 tolerances, and the noise of the cycle run.
+    bound.x.forEach((v, i) => expect(Math.abs(v - fixed[i]!)).toBeLessThan(40 * tolerance));
+    const settled = shootPeriodicOrbit(bound.x, noisy(0.03), { scales: [1, 1], tolerance, initialJacobian: bound.jacobian! });
+    expect(settled.outcome).toBe('settled');
+    expect(settled.cycles).toBeLessThanOrEqual(4);
+    settled.x.forEach((v, i) => expect(Math.abs(v - fixed[i]!)).toBeLessThan(tolerance));
+  });
+
+  it('is not bound by noise of a tenth of the tolerance: it settles', () => {
+    let state = 11;
+    const noise = (): number => { state = (state * 16807) % 2147483647; return 0.1e-6 * (2 * state / 2147483647 - 1); };
+    const result = shootPeriodicOrbit([0], (x) => ({ end: [0.8 * x[0]! + 1 + noise()], sameStart: true }), { scales: [1], tolerance: 1e-6 });
+    expect(result.outcome).toBe('settled');
+    expect(result.noiseBound).toBeUndefined();
+    expect(Math.abs(result.x[0]! - 5)).toBeLessThan(1e-6);
+  });
+
   it('hands back to the cycle loop when the devices at the period start change', () => {
     let calls = 0;
     const result = shootPeriodicOrbit([0], (x) => ({ end: [0.5 * x[0]! + 1], sameStart: ++calls < 3 }), { scales: [1], tolerance: 1e-12 });
