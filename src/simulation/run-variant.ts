@@ -238,6 +238,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     fullNonlinear = odexAt(fullTolerance);
     if (options.integrator) fullIntegrator = givenAt(fullTolerance)!;
     useTolerance(false);
+    stats.relativeTolerance = fullTolerance;
   };
 
   const period = params.periodSeconds / SECONDS_PER_TIME_UNIT;
@@ -509,7 +510,6 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
         // what it learned (that cycle is its first evaluation).
         tighten();
         tightenings++;
-        stats.relativeTolerance = fullTolerance;
         shootingJacobian = shot.jacobian;
         shootingsLeft++;
         shootAfter = cycles + 1;
