@@ -177,6 +177,23 @@ describe('ExactLinearSegmentIntegrator on an LC tank (closed form i = I0·cos ω
     expect(Math.abs(result.t - Math.asin(k) / w) * w).toBeLessThan(1e-7);
   });
 
+  it('finds a grazing crest wherever it falls within a step (100 phases; above the threshold for 0.1 % of a period), and none 1e-6 above the crest', () => {
+    // v = I0·Z0·sin(ωt + φ) from i = I0·cos φ, v = I0·Z0·sin φ: it first rises through k·I0·Z0 at
+    // ωt = asin(k) − φ (mod 2π). The crests between step ends are the ones the prefilter judges.
+    const k = 1 - 1.25e-5;
+    for (let n = 0; n < 100; n++) {
+      const phi = -Math.PI + (2 * Math.PI * (n + 0.37)) / 100;
+      let phase = Math.asin(k) - phi;
+      while (phase <= 0) phase += 2 * Math.PI;
+      const x0 = [i0 * Math.cos(phi), i0 * z0 * Math.sin(phi)];
+      const hit = exact().integrate(problem(tank(l, c), x0, 100, [(x) => x[1]! - k * i0 * z0]));
+      expect(hit.status, `φ = ${phi}`).toBe('event');
+      expect(Math.abs(hit.t * w - phase), `φ = ${phi}`).toBeLessThan(1e-6);
+      const miss = exact().integrate(problem(tank(l, c), x0, 3 * (2 * Math.PI / w), [(x) => x[1]! - (1 + 1e-6) * i0 * z0]));
+      expect(miss.status, `φ = ${phi}`).toBe('reached-end');
+    }
+  });
+
   it('reaches the end without an event when the crest stays below the threshold', () => {
     const result = exact().integrate(problem(tank(l, c), [i0, 0], 3 * (2 * Math.PI / w), [(x) => x[1]! - (1 + 1e-6) * i0 * z0]));
     expect(result.status).toBe('reached-end');
