@@ -55,6 +55,16 @@ export class SwitchingNodeModel {
     const { current, voltage } = this.scales;
     const mode = mm.mode;
     const sig = (x: ArrayLike<number>) => mm.signals(x);
+    // Where the drain is free its voltage is a state, and the magnetizing voltage (the output diode
+    // off) follows from it and the primary current: the event functions read them without the
+    // mode's other signals. odex samples them many times per step (bias-48v: about a fifth of the
+    // signal evaluations were the events').
+    const free = mode.drain === 'free';
+    const drainVoltage = free ? (x: ArrayLike<number>) => x[VD]! : (x: ArrayLike<number>) => sig(x).drainVoltage;
+    const lm = p.magnetizingInductance, llk = p.leakageInductance;
+    const magnetizingVoltage = free && !mode.outputDiodeOn
+      ? (x: ArrayLike<number>) => (lm * (p.supplyVoltage - x[VD]! - p.primaryResistance * x[IP]!)) / (lm + llk)
+      : (x: ArrayLike<number>) => sig(x).magnetizingVoltage;
     const events: ModeEvent[] = [];
     const add = (name: string, device: DeviceName, scale: number, next: Partial<Mode>, g: ModeEvent['g']): void => {
       events.push({ name, device, scale, next: { ...mode, ...next }, g });
@@ -68,7 +78,7 @@ export class SwitchingNodeModel {
       add('output diode off', 'outputDiode', current, { outputDiodeOn: false }, (x) => x[IP]! - x[IM]!);
     } else {
       const vr = p.reflectedVoltage;
-      add('output diode on', 'outputDiode', voltage, { outputDiodeOn: true }, (x) => -sig(x).magnetizingVoltage - vr);
+      add('output diode on', 'outputDiode', voltage, { outputDiodeOn: true }, (x) => -magnetizingVoltage(x) - vr);
     }
     if (mode.channelFalling) add('channel current at zero', 'channel', current, { channelFalling: false }, (x) => -x[ICH]!);
 
@@ -87,7 +97,7 @@ export class SwitchingNodeModel {
         const cj = clamp.diodeCapacitance;
         if (mode.clampDiode === 'off') {
           add('clamp diode on', 'clampDiode', voltage, { clampDiode: 'on' },
-            cj > 0 ? (x) => x[VJ]! - vf : (x) => sig(x).drainVoltage - (vin + x[VC]!) - vf);
+            cj > 0 ? (x) => x[VJ]! - vf : (x) => drainVoltage(x) - (vin + x[VC]!) - vf);
         } else if (mode.clampDiode === 'on') {
           add(stopName, 'clampDiode', current, { clampDiode: stopTo }, stopping((x) => x[IC]!));
         } else {
@@ -101,7 +111,7 @@ export class SwitchingNodeModel {
           add('avalanche (clamp above breakdown)', 'avalanche', voltage, { drain: 'avalanche', clampDiode: 'off' }, (x) => vin + x[VC]! + vf - vav);
         }
       } else if (mode.drain === 'free' || mode.drain === 'avalanche') {
-        add('clamp diode on', 'clampDiode', voltage, { drain: 'clamp', clampDiode: 'on' }, (x) => sig(x).drainVoltage - (vin + x[VC]!) - vf);
+        add('clamp diode on', 'clampDiode', voltage, { drain: 'clamp', clampDiode: 'on' }, (x) => drainVoltage(x) - (vin + x[VC]!) - vf);
       }
       if (clamp.loopInductance === 0 && mode.clampDiode === 'recovering') {
         add('clamp diode recovered', 'clampDiode', recovered, { clampDiode: 'off' }, (x) => recovered - x[QD]!);
