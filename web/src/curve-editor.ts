@@ -13,6 +13,8 @@ const MIN_POINTS = MIN_CURVE_POINTS;
 const MAX_POINTS = MAX_CURVE_POINTS;
 /** Samples per segment for the plotted line; the line is exact at any count, this keeps hover useful. */
 const SAMPLES_PER_SEGMENT = 12;
+/** One object for every draw: plotly rebuilds a plot whose config object changed. */
+const CURVE_PLOT_CONFIG: PlotSpec = { responsive: true, displaylogo: false, displayModeBar: false };
 
 type Point = [number, number];
 type Mode = 'constant' | 'curve';
@@ -190,7 +192,7 @@ export function createCurveEditor(options: CurveEditorOptions) {
     constantRow.hidden = next !== 'constant';
     curveBox.hidden = next !== 'curve';
     if (next === 'curve') draw();
-    else purge(plot);
+    else { purge(plot); drawnFrom = ''; }
   }
 
   /** The points as numbers; `valid` only when the simulator would take them as they are. */
@@ -208,10 +210,16 @@ export function createCurveEditor(options: CurveEditorOptions) {
     frame = requestAnimationFrame(() => { frame = 0; draw(); });
   }
 
+  // What the plot was last drawn from: an edit elsewhere in the form (most of them) leaves it as it
+  // is, and a redraw with new arrays cost about 26 ms of the page's time on each live run.
+  let drawnFrom = '';
   function draw(): void {
     if (mode() !== 'curve') return;
     const { usable, valid, count } = parsedPoints();
     const ctx = options.context();
+    const inputs = JSON.stringify([rowTexts(), ctx.plateau, ctx.rating, ctx.avalanche]);
+    if (inputs === drawnFrom) return;
+    drawnFrom = inputs;
     const lastV = usable.length ? Math.max(...usable.map(([v]) => v)) : 0;
     // Past the last point the simulator holds C flat; show that up to where the drain can go.
     const reach = Math.max(lastV * 1.25, ctx.rating ?? 0, ctx.avalanche ?? 0, 1);
@@ -250,7 +258,7 @@ export function createCurveEditor(options: CurveEditorOptions) {
       xaxis: { ...options.axis, title: { text: 'drain voltage (V)', font: { size: 11 } }, range: [0, reach], tickfont: { size: 10.5 } },
       yaxis: { ...options.axis, type: 'log', exponentformat: 'SI', ticksuffix: 'F', tickfont: { size: 10.5 } },
     };
-    react(plot, data, layout, { responsive: true, displaylogo: false, displayModeBar: false });
+    react(plot, data, layout, CURVE_PLOT_CONFIG);
     if (valid) note.textContent = '';
     else if (usable.length < count) note.textContent = 'Points that do not read as a voltage and a capacitance above 0 are left out of the plot.';
     else note.textContent = 'The line appears once the voltages rise strictly from 0 V.';
