@@ -509,6 +509,7 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
       // Cycle by cycle from where the shooting (or the try) stopped; the tracker measures changes from there.
       if (shot.outcome === 'handed-back') x = shot.x;
       tracker.replaceLatest(x);
+      // (The floor allows for the divisions' rounding, so that 1e-9 reaches 1e-10.)
       if (shot.noiseBound && tightenings < MAX_TIGHTENINGS && fullTolerance / TIGHTENING_FACTOR >= TIGHTEST_RELATIVE_TOLERANCE * (1 - 1e-9)) {
         // Near the orbit already: one cycle at the tighter tolerance, then the shooting again from
         // what it learned (that cycle is its first evaluation).

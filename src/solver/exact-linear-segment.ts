@@ -191,7 +191,7 @@ export class ExactLinearSegmentIntegrator implements SegmentIntegrator {
     const valueOf = forms.map((form, e) => (form ? (y: ArrayLike<number>) => valueAt(form, y) : events[e]!));
     const gPrev = valueOf.map((g) => g(x));
     const gNow = new Array<number>(events.length);
-    const ratePrev = forms.map((r) => (r ? rateAt(r, x) : 0));
+    const ratePrev = forms.map((form) => (form ? rateAt(form, x) : 0));
     const rateNow = new Array<number>(events.length);
     const probe = new Array<number>(n);
     let steps = 0;
@@ -244,17 +244,17 @@ export class ExactLinearSegmentIntegrator implements SegmentIntegrator {
       for (let e = 0; e < events.length; e++) {
         const g = valueOf[e]!;
         gNow[e] = g(next);
-        const rate = forms[e]!;
-        if (rate) rateNow[e] = rateAt(rate, next);
+        const form = forms[e]!;
+        if (form) rateNow[e] = rateAt(form, next);
         if (!(gPrev[e]! < 0)) continue;
         let tCross = tNext, gCross = gNow[e]!;
         if (gCross < 0) {
           // Both ends below zero: a crest inside the step may still touch zero (a graze). Its
           // top is where the rate turns from rising to falling.
-          if (!rate || !(ratePrev[e]! > 0 && rateNow[e]! < 0)) continue;
+          if (!form || !(ratePrev[e]! > 0 && rateNow[e]! < 0)) continue;
           if (!crestMayReachZero(gPrev[e]!, gCross, ratePrev[e]! * tau, rateNow[e]! * tau)) continue;
           const tr = own ?? (own = new TaylorTrajectory(system, x, order));
-          const tTop = locateRisingRoot((tq) => { tr.at(tq - t, probe); return -rateAt(rate, probe); },
+          const tTop = locateRisingRoot((tq) => { tr.at(tq - t, probe); return -rateAt(form, probe); },
             t, tNext, -ratePrev[e]!, -rateNow[e]!, timeTolerance);
           tr.at(tTop - t, probe);
           gCross = g(probe);
