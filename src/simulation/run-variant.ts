@@ -236,13 +236,22 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     if (options.integrator) { integrator = isRough ? (roughGiven ??= givenAt(roughTolerance)!) : fullIntegrator; return; }
     nonlinear.current = isRough ? (roughNonlinear ??= odexAt(roughTolerance)) : fullNonlinear;
   };
-  /** The full-accuracy cycles from now on at a tighter tolerance (the rough ones stay as they are). */
-  const tighten = (): void => {
-    fullTolerance /= TIGHTENING_FACTOR;
+  /**
+   * The full-accuracy cycles from now on at a tighter tolerance (the rough ones stay as they are);
+   * false when the tightenings are spent or would pass the floor (allowing for the divisions'
+   * rounding, so that 1e-9 reaches 1e-10).
+   */
+  let tightenings = 0;
+  const tighten = (): boolean => {
+    const next = fullTolerance / TIGHTENING_FACTOR;
+    if (tightenings >= MAX_TIGHTENINGS || next < TIGHTEST_RELATIVE_TOLERANCE * (1 - 1e-9)) return false;
+    tightenings++;
+    fullTolerance = next;
     fullNonlinear = odexAt(fullTolerance);
     if (options.integrator) fullIntegrator = givenAt(fullTolerance)!;
     useTolerance(false);
     stats.relativeTolerance = fullTolerance;
+    return true;
   };
 
   const period = params.periodSeconds / SECONDS_PER_TIME_UNIT;
@@ -447,7 +456,6 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     ? (hint ? SHOOTING_WARM_UP_CYCLES_FROM_HINT : SHOOTING_WARM_UP_CYCLES) : Infinity;
   // A hint far from the orbit may hand the first shooting back: a second one follows the usual warm-up.
   let shootingsLeft = hint ? 2 : 1;
-  let tightenings = 0;
   // The shooting's first Jacobian estimate: the hint's, or that of a shooting bound by noise.
   let shootingJacobian = hint ? options.startJacobian : undefined;
   let finalChange: number | null = null;
@@ -509,12 +517,9 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
       // Cycle by cycle from where the shooting (or the try) stopped; the tracker measures changes from there.
       if (shot.outcome === 'handed-back') x = shot.x;
       tracker.replaceLatest(x);
-      // (The floor allows for the divisions' rounding, so that 1e-9 reaches 1e-10.)
-      if (shot.noiseBound && tightenings < MAX_TIGHTENINGS && fullTolerance / TIGHTENING_FACTOR >= TIGHTEST_RELATIVE_TOLERANCE * (1 - 1e-9)) {
+      if (shot.noiseBound && tighten()) {
         // Near the orbit already: one cycle at the tighter tolerance, then the shooting again from
         // what it learned (that cycle is its first evaluation).
-        tighten();
-        tightenings++;
         shootingJacobian = shot.jacobian;
         shootingsLeft++;
         shootAfter = cycles + 1;
