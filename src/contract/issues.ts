@@ -13,10 +13,26 @@ export interface ValidationIssue {
   message: string;
 }
 
+/** A key that reads as a name, joined by a dot; any other (an unknown key of the input) is quoted. */
+const PLAIN_KEY = /^[A-Za-z_$][\w$]*$/;
+
+/**
+ * An unknown key in brackets as a JSON string, its spaces and colons escaped too, so that the
+ * path stays one word before the message's colon: {" ": 0} in design.measuredRing is
+ * `design.measuredRing["\u0020"]`, not `design.measuredRing. `.
+ */
+function quotedKey(key: string): string {
+  return `[${JSON.stringify(key).replace(/[\s:]/g, (c) => `\\u${c.charCodeAt(0).toString(16).padStart(4, '0')}`)}]`;
+}
+
 /** ['switch', 'drainCapacitance', 0, 1] → "switch.drainCapacitance[0][1]"; [] → "(scenario)". */
 export function formatPath(keys: readonly PathKey[]): string {
   let text = '';
-  for (const key of keys) text += typeof key === 'number' ? `[${key}]` : text === '' ? key : `.${key}`;
+  for (const key of keys) {
+    if (typeof key === 'number') text += `[${key}]`;
+    else if (!PLAIN_KEY.test(key)) text += quotedKey(key);
+    else text += text === '' ? key : `.${key}`;
+  }
   return text === '' ? '(scenario)' : text;
 }
 
