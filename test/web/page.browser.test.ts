@@ -60,6 +60,18 @@ async function tableValue(variant: string, metric: string): Promise<number> {
   return Number(text);
 }
 
+/** The clamp plot as drawn (its traces and notes) and its description for screen readers. */
+async function clampPlotNotes(): Promise<{ traces: number; notes: string[]; description: string }> {
+  return page.evaluate(() => {
+    const plot = document.getElementById('clamp-plot') as unknown as { data?: unknown[]; layout?: { annotations?: Array<{ text: string }> } };
+    return {
+      traces: plot.data?.length ?? 0,
+      notes: (plot.layout?.annotations ?? []).map((a) => a.text.replace(/<\/?b>/g, '')),
+      description: document.getElementById('clamp-plot-description')?.textContent ?? '',
+    };
+  });
+}
+
 interface TraceSummary { name: string; meta: string; type: string; mode: string; points: number; xMin: number; xMax: number }
 
 async function drainTraces(): Promise<TraceSummary[]> {
@@ -109,12 +121,13 @@ describe('the plotting page', () => {
     // 80 % of the rating: the README's derated limit (common practice) when no design block says otherwise.
     expect(traces.find((t) => t.meta === 'limit:derated')?.name).toContain(`${Number((0.8 * rating).toPrecision(4))} V`);
 
-    const clampNotes = await page.evaluate(() => {
-      const plot = document.getElementById('clamp-plot') as unknown as { data?: unknown[]; layout?: { annotations?: Array<{ text: string }> } };
-      return { traces: plot.data?.length ?? 0, notes: (plot.layout?.annotations ?? []).map((a) => a.text) };
-    });
+    // The clamp plot sits below the fold: it is drawn once scrolled near.
+    await page.locator('#clamp-plot').scrollIntoViewIfNeeded();
+    await page.waitForFunction(() => ((document.getElementById('clamp-plot') as unknown as { data?: unknown[] }).data?.length ?? 0) > 0);
+    const clampNotes = await clampPlotNotes();
     expect(clampNotes.traces).toBe(2);
     expect(clampNotes.notes.join(' ')).toMatch(/mean .*V .*ripple .*V p-p/);
+    await page.evaluate(() => window.scrollTo(0, 0));
 
     barePeak = await tableValue('bare', 'peakDrainVoltage');
     // The demo's transistor breaks down: the README holds the drain at switch.avalancheVoltage while
@@ -207,6 +220,42 @@ describe('the plotting page', () => {
     expect(doubled - plateau()).toBeGreaterThan(0.95 * overshoot(2 * llk));
     expect(doubled - plateau()).toBeLessThan(1.05 * overshoot(2 * llk));
     barePeak = doubled;
+  }, TEST_TIMEOUT_MS);
+
+  it('draws the clamp plot of a new answer when it is scrolled near, its description at once', async () => {
+    await page.locator('#clamp-plot').scrollIntoViewIfNeeded();
+    await page.waitForFunction(() => ((document.getElementById('clamp-plot') as unknown as { data?: unknown[] }).data?.length ?? 0) > 0);
+    const drawn = await clampPlotNotes();
+    // A run with the clamp plot below the fold: its description is the new answer's at once, the
+    // drawn notes still the earlier answer's (the clamp's mean moves with the leakage).
+    await page.evaluate(() => window.scrollTo(0, 0));
+    const before = await runCount();
+    await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(1.5 * si(demo.transformer.leakageInductance, 'H'), 'H'));
+    await page.press(`[data-path="${LEAKAGE}"]`, 'Enter');
+    await waitForRuns(before + 1);
+    expect(await page.evaluate(() => document.body.dataset.lastOutcome)).toBe('ok');
+    const held = await clampPlotNotes();
+    expect(held.notes).toEqual(drawn.notes);
+    const described = (notes: string[]): string => `${notes.join('; ')}.`;
+    expect(held.description).toMatch(/mean .*V .*ripple .*V p-p/);
+    expect(described(held.notes)).not.toBe(held.description);
+    await page.locator('#clamp-plot').scrollIntoViewIfNeeded();
+    await page.waitForFunction(() => {
+      const plot = document.getElementById('clamp-plot') as unknown as { layout?: { annotations?: Array<{ text: string }> } };
+      const notes = (plot.layout?.annotations ?? []).map((a) => a.text.replace(/<\/?b>/g, ''));
+      return `${notes.join('; ')}.` === document.getElementById('clamp-plot-description')?.textContent;
+    }, null, { timeout: RUN_TIMEOUT_MS });
+    expect(described((await clampPlotNotes()).notes)).toBe(held.description);
+    // Back to the doubled leakage the next test starts from.
+    await page.evaluate(() => window.scrollTo(0, 0));
+    const again = await runCount();
+    await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(2 * si(demo.transformer.leakageInductance, 'H'), 'H'));
+    await page.press(`[data-path="${LEAKAGE}"]`, 'Enter');
+    await waitForRuns(again + 1);
+    // The same circuit again, warm-started from another orbit: the same peak to well within the settle tolerance.
+    const restored = await tableValue('bare', 'peakDrainVoltage');
+    expect(Math.abs(restored - barePeak)).toBeLessThan(1e-4 * barePeak);
+    barePeak = restored;
   }, TEST_TIMEOUT_MS);
 
   it('puts the server\'s complaint about an invalid leakage inductance beside that input', async () => {
