@@ -222,36 +222,46 @@ describe('the plotting page', () => {
     barePeak = doubled;
   }, TEST_TIMEOUT_MS);
 
-  it('draws the clamp plot of a new answer when it is scrolled near, its description at once', async () => {
+  it('draws the clamp plot of a new answer when it is scrolled near or printed, its description at once', async () => {
     await page.locator('#clamp-plot').scrollIntoViewIfNeeded();
     await page.waitForFunction(() => ((document.getElementById('clamp-plot') as unknown as { data?: unknown[] }).data?.length ?? 0) > 0);
     const drawn = await clampPlotNotes();
-    // A run with the clamp plot below the fold: its description is the new answer's at once, the
-    // drawn notes still the earlier answer's (the clamp's mean moves with the leakage).
-    await page.evaluate(() => window.scrollTo(0, 0));
-    const before = await runCount();
-    await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(1.5 * si(demo.transformer.leakageInductance, 'H'), 'H'));
-    await page.press(`[data-path="${LEAKAGE}"]`, 'Enter');
-    await waitForRuns(before + 1);
-    expect(await page.evaluate(() => document.body.dataset.lastOutcome)).toBe('ok');
-    const held = await clampPlotNotes();
-    expect(held.notes).toEqual(drawn.notes);
     const described = (notes: string[]): string => `${notes.join('; ')}.`;
-    expect(held.description).toMatch(/mean .*V .*ripple .*V p-p/);
-    expect(described(held.notes)).not.toBe(held.description);
-    await page.locator('#clamp-plot').scrollIntoViewIfNeeded();
-    await page.waitForFunction(() => {
+    /** A run of this leakage with the clamp plot below the fold, the top of the page in view. */
+    const runScrolledUp = async (leakageFactor: number): Promise<void> => {
+      await page.evaluate(() => window.scrollTo(0, 0));
+      const before = await runCount();
+      await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(leakageFactor * si(demo.transformer.leakageInductance, 'H'), 'H'));
+      await page.press(`[data-path="${LEAKAGE}"]`, 'Enter');
+      await waitForRuns(before + 1);
+      expect(await page.evaluate(() => document.body.dataset.lastOutcome)).toBe('ok');
+    };
+    const drawnIsDescribed = (): boolean => {
       const plot = document.getElementById('clamp-plot') as unknown as { layout?: { annotations?: Array<{ text: string }> } };
       const notes = (plot.layout?.annotations ?? []).map((a) => a.text.replace(/<\/?b>/g, ''));
       return `${notes.join('; ')}.` === document.getElementById('clamp-plot-description')?.textContent;
-    }, null, { timeout: RUN_TIMEOUT_MS });
-    expect(described((await clampPlotNotes()).notes)).toBe(held.description);
-    // Back to the doubled leakage the next test starts from.
+    };
+
+    // The description is the new answer's at once; the drawn notes are still the earlier answer's
+    // (the clamp's mean moves with the leakage) until the page is printed.
+    await runScrolledUp(1.5);
+    const held = await clampPlotNotes();
+    expect(held.notes).toEqual(drawn.notes);
+    expect(held.description).toMatch(/mean .*V .*ripple .*V p-p/);
+    expect(described(held.notes)).not.toBe(held.description);
+    await page.evaluate(() => window.dispatchEvent(new Event('beforeprint')));
+    const printed = await clampPlotNotes();
+    expect(described(printed.notes)).toBe(held.description);
+
+    // Back to the doubled leakage the next test starts from: held again until scrolled near.
+    await runScrolledUp(2);
+    const heldAgain = await clampPlotNotes();
+    expect(heldAgain.notes).toEqual(printed.notes);
+    expect(described(heldAgain.notes)).not.toBe(heldAgain.description);
+    await page.locator('#clamp-plot').scrollIntoViewIfNeeded();
+    await page.waitForFunction(drawnIsDescribed, null, { timeout: RUN_TIMEOUT_MS });
+    expect(described((await clampPlotNotes()).notes)).toBe(heldAgain.description);
     await page.evaluate(() => window.scrollTo(0, 0));
-    const again = await runCount();
-    await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(2 * si(demo.transformer.leakageInductance, 'H'), 'H'));
-    await page.press(`[data-path="${LEAKAGE}"]`, 'Enter');
-    await waitForRuns(again + 1);
     // The same circuit again, warm-started from another orbit: the same peak to well within the settle tolerance.
     const restored = await tableValue('bare', 'peakDrainVoltage');
     expect(Math.abs(restored - barePeak)).toBeLessThan(1e-4 * barePeak);

@@ -12,8 +12,8 @@ const plot = $('#clamp-plot');
 /**
  * The plot sits below the fold of a usual window. Its Plotly draw took about a third of an edit's
  * re-plot (25–30 ms of about 80), so an answer is drawn when the plot is within NEAR_VIEW_PX of
- * the view, and otherwise kept until it comes that near (scrolled to, or the window grown). Its
- * description and notes are written at once: a screen reader gets them without the draw.
+ * the view, and otherwise kept until it comes that near (scrolled to, the window grown) or the
+ * page is printed. Its description is written at once: a screen reader gets it without the draw.
  */
 const NEAR_VIEW_PX = 150;
 let nearView = false;
@@ -25,6 +25,8 @@ const watcher = typeof IntersectionObserver === 'function'
   }, { rootMargin: `${NEAR_VIEW_PX}px 0px` })
   : null;
 watcher?.observe(plot);
+// A printed page shows the answer of the plots above it, not the one before.
+window.addEventListener('beforeprint', () => { if (waiting) { const answer = waiting; waiting = null; drawNow(answer); } });
 
 export function drawClamp(result: SimulateAnswer): void {
   const withClamp = clampVariants(result);
