@@ -18,15 +18,21 @@ const plot = $('#clamp-plot');
 const NEAR_VIEW_PX = 150;
 let nearView = false;
 let waiting: SimulateAnswer | null = null;
+const drawWaiting = (): void => {
+  if (!waiting) return;
+  const answer = waiting;
+  waiting = null;
+  drawNow(answer);
+};
 const watcher = typeof IntersectionObserver === 'function'
   ? new IntersectionObserver((entries) => {
     nearView = entries[entries.length - 1]!.isIntersecting;
-    if (nearView && waiting) { const answer = waiting; waiting = null; drawNow(answer); }
+    if (nearView) drawWaiting();
   }, { rootMargin: `${NEAR_VIEW_PX}px 0px` })
   : null;
 watcher?.observe(plot);
 // A printed page shows the answer of the plots above it, not the one before.
-window.addEventListener('beforeprint', () => { if (waiting) { const answer = waiting; waiting = null; drawNow(answer); } });
+window.addEventListener('beforeprint', drawWaiting);
 
 export function drawClamp(result: SimulateAnswer): void {
   const withClamp = clampVariants(result);
