@@ -175,7 +175,12 @@ function schemaKeys(schema: z.ZodType): string[] {
 export interface ErrorResponse { error: string; issues?: ValidationIssue[] }
 
 /** GET /api/health */
-export interface HealthResponse { ok: true; runs: { running: number; queued: number; slots: number } }
+export interface HealthResponse {
+  ok: true;
+  runs: { running: number; queued: number; slots: number };
+  /** Worker threads started since the server began: more than its slots means threads were ended and replaced (each costs about a second). */
+  workerThreadsStarted: number;
+}
 
 /** GET /api/scenarios (GET /api/scenarios/:id answers the file as it is). */
 export interface ScenarioListResponse { scenarios: Array<{ id: string; name: string }> }

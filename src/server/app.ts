@@ -34,6 +34,7 @@ import { duplicateKeyIssues } from '../circuit/duplicate-keys.js';
 import { checkWorkBudget, designVariantRuns, estimateWork, MAX_RECORDED_SAMPLES, type BudgetRefusal } from '../analysis/work-budget.js';
 import { nonFinitePaths, soundVariants } from '../analysis/result-checks.js';
 import { Busy, RunSlots } from './admission.js';
+import type { WorkControl } from './stop-flag.js';
 import { hostCheck, securityHeaders } from './web-guards.js';
 
 export interface ServerOptions {
@@ -105,6 +106,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
   const pool = createPool<ServerTask, ServerTaskResult>(import.meta.url, 'server-worker', {
     maxThreads: maxConcurrentRuns, maxHeapMb: workerHeapMb, ...(options.warmWorkers ? { minThreads: maxConcurrentRuns } : {}),
   });
+  let workerThreadsStarted = 0;
+  pool.on('workerCreate', () => { workerThreadsStarted++; });
   // One warm-up per thread, all at once, so that each thread takes one; a failure only costs the warmth.
   if (options.warmWorkers) for (let k = 0; k < maxConcurrentRuns; k++) pool.run({ kind: 'warm-up' }).catch(() => undefined);
   // Sweeps run on worker processes, made on the first sweep (they scale better than threads) and
@@ -117,9 +120,12 @@ export function createServer(given: ServerOptions): FlyclampServer {
 
   /**
    * Admits one request to a run slot, then runs its work under the time cap counted from then; a
-   * request that closes (the page navigated away) cancels its work.
+   * request that closes (the page navigated away, or sent a newer edit) cancels its work. Work that
+   * reads `stopFlag` (its runs stop between cycles once it is set) keeps its worker thread: a
+   * cancelled thread is ended, and a new one took about 1.2 s before its next answer. Other work
+   * is aborted, which ends the thread; the abort also backs up the time cap.
    */
-  async function admitted<T>(res: Response, capMs: number, work: (signal: AbortSignal) => Promise<T>): Promise<T> {
+  async function admitted<T>(res: Response, capMs: number, work: (control: WorkControl) => Promise<T>, options: { readsStopFlag?: boolean } = {}): Promise<T> {
     const closed = new AbortController();
     const onClose = (): void => { if (!res.writableFinished) closed.abort(); };
     res.on('close', onClose);
@@ -132,19 +138,24 @@ export function createServer(given: ServerOptions): FlyclampServer {
       throw error;
     }
     const abort = new AbortController();
+    const stopFlag = new Int32Array(new SharedArrayBuffer(4));
     const stop = (): void => abort.abort();
-    closed.signal.addEventListener('abort', stop, { once: true });
+    const onClosed = options.readsStopFlag ? (): void => { Atomics.store(stopFlag, 0, 1); } : stop;
+    closed.signal.addEventListener('abort', onClosed, { once: true });
     // Runs check their own deadline between cycles; this is the backstop for a stuck worker.
     const timer = setTimeout(stop, capMs + CAP_GRACE_MS);
     try {
-      return await work(abort.signal);
+      const result = await work({ signal: abort.signal, stopFlag });
+      // Nobody is left to read the answer (a stopped run answers a failure that is not the design's).
+      if (closed.signal.aborted) throw new HttpError(499, 'the request was closed before its answer');
+      return result;
     } catch (error) {
       if (error instanceof HttpError) throw error;
       if (abort.signal.aborted) throw new HttpError(504, `the work took longer than its time cap of ${capMs / 1000} s`);
       throw workerFault(error);
     } finally {
       clearTimeout(timer);
-      closed.signal.removeEventListener('abort', stop);
+      closed.signal.removeEventListener('abort', onClosed);
       res.off('close', onClose);
       release();
     }
@@ -167,7 +178,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
   app.use(hostCheck({ extraHostNames: options.extraHostNames ?? [] }));
   // A cheap route answered on the request thread: runs never block it (they are in workers).
   app.get('/api/health', (_req, res) => {
-    const answer: HealthResponse = { ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots } };
+    const answer: HealthResponse = { ok: true, runs: { running: slots.running, queued: slots.queued, slots: slots.slots }, workerThreadsStarted };
     res.json(answer);
   });
   // The text is kept for the repeated-key scan (JSON.parse keeps the last of two equal keys silently).
@@ -215,7 +226,8 @@ export function createServer(given: ServerOptions): FlyclampServer {
       const jacobian = state ? jacobianMemory.recall(v, state) : undefined;
       return jacobian ? [[v, jacobian]] : [];
     }));
-    const result = await admitted(res, runTimeCapMs, (signal) => simulateVariantsInParallel((t) => pool.run(t, { signal }), { ...task, startJacobians }));
+    const result = await admitted(res, runTimeCapMs, ({ signal, stopFlag }) =>
+      simulateVariantsInParallel((t) => pool.run(t, { signal }), { ...task, startJacobians, stopFlag }), { readsStopFlag: true });
     if (!result.ok) throw failed(result.failure);
     const { problems } = soundVariants(result.report.variants);
     if (problems.length > 0) throw failed(problems.join('; '));
@@ -232,7 +244,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
     const { scenario, warnings } = readScenarioBody(designRequestSchema, req.body);
     const capMs = 6 * runTimeCapMs; // a design verifies several corners of the full model and its adjustments
     refuseOverBudget(checkWorkBudget(scenario, designVariantRuns(scenario), capMs / 1000, capHint));
-    const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'design', scenario, columns: 1500, capMs }, { signal })) as DesignTaskResult;
+    const result = await admitted(res, capMs, ({ signal }) => pool.run({ kind: 'design', scenario, columns: 1500, capMs }, { signal })) as DesignTaskResult;
     if (!result.ok) throw failed(result.failure, 'design');
     const notFinite = nonFinitePaths(result.design);
     if (notFinite.length > 0) throw failed(`the design has no finite value for ${notFinite.join(', ')}`, 'design');
@@ -259,7 +271,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
     checkStudyBudget(base, chosen.points, body.samples !== undefined ? 'samples' : 'vary', capMs, runTimeCapMs, maxConcurrentRuns);
     // The study's points stop at its cap and the finished ones are answered: a sweep that runs out
     // of time still returns its work.
-    const study = await admitted(res, capMs, (signal) => runStudy(base, chosen.points, { pool: currentStudyPool(), signal, deadlineMs: Date.now() + capMs, taskCapMs: runTimeCapMs }));
+    const study = await admitted(res, capMs, ({ signal }) => runStudy(base, chosen.points, { pool: currentStudyPool(), signal, deadlineMs: Date.now() + capMs, taskCapMs: runTimeCapMs }));
     const points = study.points;
     const derated = scenario.switch.voltageRating * drainDerating(scenario);
     const answer: SweepResponse = {
@@ -289,7 +301,7 @@ export function createServer(given: ServerOptions): FlyclampServer {
       const fitHint = (): string => `the fit runs up to ${MAX_FIT_SIMULATIONS} of them within ${capMs / 1000} s; use flyclamp fit on the command line, which has no cap`;
       refuseOverBudget(variants.flatMap((v) => checkWorkBudget(scenario, [v], perSimulation, fitHint)));
     }
-    const result = await admitted(res, capMs, (signal) => pool.run({ kind: 'capture', ...task, ...(scenario ? { scenario } : {}), capMs }, { signal })) as CaptureTaskResult;
+    const result = await admitted(res, capMs, ({ signal }) => pool.run({ kind: 'capture', ...task, ...(scenario ? { scenario } : {}), capMs }, { signal })) as CaptureTaskResult;
     if (!result.ok) {
       if (result.kind === 'field') throw new HttpError(400, 'invalid request', [issueAt(['body', result.field === 'body.capture' ? 'capture' : 'column'], result.failure)]);
       if (result.kind === 'ring') throw new HttpError(422, `no ring can be measured in the capture: ${result.failure}`);

@@ -11,7 +11,7 @@ export type RunTask = (task: ServerTask) => Promise<ServerTaskResult>;
 export async function simulateVariantsInParallel(run: RunTask, task: SimulateTask): Promise<SimulateTaskResult> {
   let scenario = task.scenario;
   if (scenario.output.power !== undefined && !task.operatingPointSettled) {
-    const point = await run({ kind: 'operating-point', scenario, capMs: task.capMs }) as OperatingPointTaskResult;
+    const point = await run({ kind: 'operating-point', scenario, capMs: task.capMs, ...(task.stopFlag ? { stopFlag: task.stopFlag } : {}) }) as OperatingPointTaskResult;
     if (!point.ok) return point;
     scenario = point.scenario;
   }

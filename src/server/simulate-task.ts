@@ -5,6 +5,7 @@ import type { Scenario, VariantName } from '../circuit/scenario.js';
 import { simulationReport, type SimulationReport } from '../analysis/simulation-report.js';
 import { reduceForDisplay, repeatCycle, roundForDisplay, type ReducedTrace } from '../analysis/display-reduction.js';
 import { settleOperatingPoint } from '../simulation/operating-point.js';
+import { stopRequestedBy } from './stop-flag.js';
 import { runVariant, SimulationFailure, warmStartOptions, warmStartsOf, type Jacobians, type StartStates, type VariantRun } from '../simulation/run-variant.js';
 
 export interface SimulateTask {
@@ -21,15 +22,17 @@ export interface SimulateTask {
   startHints?: { [V in VariantName]?: number[] | undefined };
   /** Per variant with a start hint, the Jacobian estimate of the run that answered it (VariantRun.jacobian). */
   startJacobians?: Jacobians;
+  /** Set to 1 by the request thread when the request closed: the runs stop at the next cycle (WorkControl). */
+  stopFlag?: Int32Array;
 }
 
-export interface OperatingPointTask { scenario: Scenario; capMs: number }
+export interface OperatingPointTask { scenario: Scenario; capMs: number; stopFlag?: Int32Array }
 export type OperatingPointTaskResult = { ok: true; scenario: Scenario } | { ok: false; failure: string };
 
 /** The scenario with the peak current that delivers its output power (unchanged when it gives none). */
 export function runOperatingPointTask(task: OperatingPointTask): OperatingPointTaskResult {
   try {
-    return { ok: true, scenario: settleOperatingPoint(task.scenario, { deadlineMs: Date.now() + task.capMs }).scenario };
+    return { ok: true, scenario: settleOperatingPoint(task.scenario, { deadlineMs: Date.now() + task.capMs, ...stopRequestedBy(task.stopFlag) }).scenario };
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };
     throw error;
@@ -53,12 +56,13 @@ export type SimulateTaskResult =
 export function runSimulateTask(task: SimulateTask): SimulateTaskResult {
   const runs: VariantRun[] = [];
   const deadlineMs = Date.now() + task.capMs;
+  const stop = stopRequestedBy(task.stopFlag);
   try {
-    const scenario = task.operatingPointSettled ? task.scenario : settleOperatingPoint(task.scenario, { deadlineMs }).scenario;
+    const scenario = task.operatingPointSettled ? task.scenario : settleOperatingPoint(task.scenario, { deadlineMs, ...stop }).scenario;
     for (const v of task.variants) {
       // One recorded cycle of a settled orbit gives every metric and, repeated, the plot (see
       // repeatCycle): recording the scenario's cycles took a fifth to a quarter of an edit's work.
-      runs.push(runVariant(scenario, v, { deadlineMs, recordedCyclesWhenSettled: 1, ...warmStartOptions(v, task.startHints, task.startJacobians) }));
+      runs.push(runVariant(scenario, v, { deadlineMs, ...stop, recordedCyclesWhenSettled: 1, ...warmStartOptions(v, task.startHints, task.startJacobians) }));
     }
   } catch (error) {
     if (error instanceof SimulationFailure) return { ok: false, failure: error.message };

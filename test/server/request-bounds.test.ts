@@ -6,6 +6,7 @@ import type { AddressInfo } from 'node:net';
 import type { Server } from 'node:http';
 import { createServer, type FlyclampServer } from '../../src/server/app.js';
 import { MAX_RECORDED_SAMPLES } from '../../src/analysis/work-budget.js';
+import type { HealthResponse } from '../../src/contract/api.js';
 
 /** The stated ceiling per run slot (README, "Budgets"). */
 const MEMORY_CEILING_MB = 400;
@@ -244,7 +245,7 @@ describe('HTTP API under load', () => {
       const answered = performance.now();
       const body = await health.json() as { ok: boolean; runs: { running: number } };
       expect(health.status).toBe(200);
-      expect(body).toEqual({ ok: true, runs: expect.objectContaining({ running: 1 }) });
+      expect(body).toEqual(expect.objectContaining({ ok: true, runs: expect.objectContaining({ running: 1 }) }));
       // Generous slack for a loaded machine; the route does no work.
       expect(answered - asked).toBeLessThan(1000);
       const page = await fetch(`${s.base}/`);
@@ -282,6 +283,34 @@ describe('HTTP API under load', () => {
       expect(first.status).toBe(504);
       expect(queued.status).toBe(200);
       expect(queuedAt).toBeGreaterThan(first.at);
+    } finally { await stop(s); }
+  }, 60_000);
+
+  it('a request closed mid-run stops its run at the next cycle and keeps its worker thread warm', async () => {
+    const s = await start({ runTimeCapMs: 60_000, maxConcurrentRuns: 1 });
+    try {
+      const health = async (): Promise<HealthResponse> => (await (await fetch(`${s.base}/api/health`)).json()) as HealthResponse;
+      const until = async (test: (h: HealthResponse) => boolean): Promise<HealthResponse> => {
+        for (let k = 0; k < 400; k++) { const h = await health(); if (test(h)) return h; await new Promise((ok) => setTimeout(ok, 50)); }
+        throw new Error(`the health route never showed the state waited for: ${JSON.stringify(await health())}`);
+      };
+      // The pool's one thread starts with the first run.
+      expect((await postTo(s.base, '/api/simulate', { scenario: await demo('gate-drive-24v'), variants: ['bare'] })).status).toBe(200);
+      expect((await health()).workerThreadsStarted).toBe(1);
+      const closing = new AbortController();
+      const long = fetch(`${s.base}/api/simulate`, { method: 'POST', headers: { 'content-type': 'application/json' }, body: JSON.stringify({ scenario: await endless(), variants: ['bare'] }), signal: closing.signal })
+        .then(() => 'answered', (error: Error) => error.name);
+      await until((h) => h.runs.running === 1);
+      await new Promise((ok) => setTimeout(ok, 300));
+      closing.abort();
+      expect(await long).toBe('AbortError');
+      // Left alone, the run would go on to its 60 s cap; the stop flag ends it between cycles
+      // (20 s of polling at most, for a loaded machine).
+      await until((h) => h.runs.running === 0);
+      const next = await postTo(s.base, '/api/simulate', { scenario: await demo('gate-drive-24v'), variants: ['bare'] });
+      expect(next.status).toBe(200);
+      // Ending the thread (an aborted task) would have started a second one for this request.
+      expect((await health()).workerThreadsStarted).toBe(1);
     } finally { await stop(s); }
   }, 60_000);
 

@@ -82,3 +82,24 @@ describe('runVariant with a start hint', () => {
     expect(MAX_START_STATE_LENGTH).toBe(MAX_STATE_SIZE);
   });
 });
+
+describe('runVariant asked to stop', () => {
+  it('stops at the cycle after stopRequested turns true, also from a start hint (no second run from the usual start)', async () => {
+    const scenario = await load('scenarios/gate-drive-24v.json');
+    const settled = runVariant(scenario, 'clamp', { recordedCyclesWhenSettled: 1 });
+    for (const hinted of [false, true]) {
+      let cycles = 0;
+      let asked = 0;
+      const run = (): VariantRun => runVariant(withLeakage(scenario, 1.2), 'clamp', {
+        onCycle: (n) => { cycles = n; },
+        stopRequested: () => { asked++; return cycles >= 2; },
+        ...(hinted ? { startHint: settled.startState } : {}),
+      });
+      expect(run).toThrow(/withdrawn \(stopped after \d+ cycles\)/);
+      expect(asked).toBeGreaterThan(0);
+      // One cycle may finish after the flag is read true (its check comes between cycles).
+      expect(cycles).toBeGreaterThanOrEqual(2);
+      expect(cycles).toBeLessThanOrEqual(3);
+    }
+  });
+});
