@@ -350,6 +350,8 @@ function settle(setup: RunSetup, options: RunOptions, hint: number[] | null): Va
     }
     if (options.stopRequested?.()) throw new SimulationFailure(`the run was withdrawn (stopped after ${cycles} cycles)`);
   };
+  // A task that waited in the pool's queue may have been withdrawn meanwhile.
+  checkDeadline();
 
   // A linear mode's field as its matrix: a 5×5 product is several times cheaper than the general
   // field's closures (measured: constant-part runs took 1.45× the time through them).

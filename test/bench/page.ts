@@ -1,7 +1,10 @@
 // Issue targets for the page: an edit re-plotted (three variants) within 0.25 s median on the
 // bundled scenarios, and the first request after `flyclamp serve` starts within 1 s. The compiled
 // server runs as `flyclamp serve` does (its own process, warm workers); Debian's chromium drives
-// the page. The live pause (LIVE_PAUSE_MS) is reported apart: the target counts from its end.
+// the page. The live pause (LIVE_PAUSE_MS) is reported apart: the target counts from its end. The
+// page sends an edit at the keystroke and holds its answer to the pause's end, so the server's
+// own time (the answer's arrival, from the page's status line) is reported beside it: the re-plot
+// after the pause hides how much of the server's work the pause absorbed.
 
 import { spawn, type ChildProcess } from 'node:child_process';
 import { existsSync, readFileSync, readdirSync } from 'node:fs';
@@ -72,6 +75,7 @@ export async function pageBench(): Promise<boolean> {
       const original = (await page.inputValue(`[data-path="${LEAKAGE}"]`)).trim();
       const edited = original.replace(/^([\d.]+)/, (m) => String(Number((Number(m) * 1.05).toPrecision(6))));
       const times: number[] = [];
+      const answers: number[] = [];
       for (let k = 0; k < EDITS; k++) {
         const before = await page.evaluate(() => Number(document.body.dataset.runCount));
         // Alternate two values so that every edit changes the circuit.
@@ -79,11 +83,12 @@ export async function pageBench(): Promise<boolean> {
         const t0 = performance.now();
         await page.waitForFunction((n) => Number(document.body.dataset.runCount) >= n && document.body.dataset.state !== 'busy', before + 1, { timeout: 60_000 });
         times.push(performance.now() - t0);
+        answers.push(1000 * Number(/in ([\d.]+) s/.exec(await page.textContent('#status') ?? '')?.[1]));
       }
       const afterPause = median(times) - LIVE_PAUSE_MS;
       const ok = afterPause <= TARGET_REPLOT_MS;
       allOk &&= ok;
-      console.log(`  ${id.padEnd(16)} edit → re-plotted: median ${median(times).toFixed(0)} ms with the ${LIVE_PAUSE_MS} ms pause, ${afterPause.toFixed(0)} ms after it (target ≤ ${TARGET_REPLOT_MS} ms: ${ok ? 'met' : 'MISSED'})`);
+      console.log(`  ${id.padEnd(16)} edit → re-plotted: median ${median(times).toFixed(0)} ms with the ${LIVE_PAUSE_MS} ms pause, ${afterPause.toFixed(0)} ms after it (target ≤ ${TARGET_REPLOT_MS} ms: ${ok ? 'met' : 'MISSED'}); its answer arrived ${median(answers).toFixed(0)} ms after the edit`);
     }
   } finally {
     await browser.close();

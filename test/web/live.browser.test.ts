@@ -130,6 +130,53 @@ describe('live editing', () => {
     expect(await runCount()).toBe(before);
   }, TEST_TIMEOUT_MS);
 
+  it('sends a valid edit at the keystroke, and shows the newest answer only once the form has been still for the pause', async () => {
+    await openBundled('gate-drive-24v'); // its answers come well inside the pause
+    const LIVE_PAUSE_MS = 300; // web/src/simulate.ts
+    await page.evaluate((path) => {
+      const w = window as unknown as { editedAt: number; drawnAt: number };
+      w.editedAt = 0; w.drawnAt = 0;
+      document.querySelector(`[data-path="${path}"]`)!.addEventListener('input', () => { w.editedAt = performance.now(); });
+      new MutationObserver(() => { w.drawnAt = performance.now(); }).observe(document.body, { attributes: true, attributeFilter: ['data-run-count'] });
+    }, LEAKAGE);
+    const sent: string[] = [];
+    let releaseFirst = (): void => undefined;
+    const firstHeld = new Promise<void>((ok) => { releaseFirst = ok; });
+    await page.route('**/api/simulate', async (route) => {
+      sent.push(route.request().postData() ?? '');
+      if (sent.length === 1) await firstHeld;
+      await route.continue().catch(() => undefined);
+    });
+    try {
+      const leakage = si(await page.inputValue(`[data-path="${LEAKAGE}"]`), 'H');
+      const before = await runCount();
+      await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(2 * leakage, 'H'));
+      // Sent at once: the page is busy before any pause could have passed…
+      expect(await page.evaluate(() => document.body.dataset.state)).toBe('busy');
+      for (let k = 0; k < 200 && sent.length < 1; k++) await page.waitForTimeout(25);
+      expect(sent).toHaveLength(1);
+      // …and a second edit within the pause sends again, dropping the first.
+      await page.fill(`[data-path="${LEAKAGE}"]`, formatSi(0.5 * leakage, 'H'));
+      releaseFirst();
+      expect(await waitForRuns(before + 1)).toBe('ok');
+      await page.waitForTimeout(500);
+      expect(sent).toHaveLength(2);
+      expect(await runCount()).toBe(before + 1);
+      const { editedAt, drawnAt } = await page.evaluate(() => { const w = window as unknown as { editedAt: number; drawnAt: number }; return { editedAt: w.editedAt, drawnAt: w.drawnAt }; });
+      // Shown no sooner than the pause after the last keystroke, whenever its answer came.
+      expect(drawnAt - editedAt).toBeGreaterThanOrEqual(LIVE_PAUSE_MS);
+      // The answer shown is the newest edit's: half the leakage, a lower bare peak than the demo's.
+      const half = await tableValue('bare', 'peakDrainVoltage');
+      await page.unroute('**/api/simulate');
+      await openBundled('gate-drive-24v');
+      expect(half).toBeLessThan(await tableValue('bare', 'peakDrainVoltage'));
+    } finally {
+      releaseFirst();
+      await page.unroute('**/api/simulate').catch(() => undefined);
+    }
+    await openBundled('bias-48v'); // as the tests below expect it
+  }, TEST_TIMEOUT_MS);
+
   it('cancels an older request when a newer edit comes, and shows only the newest answer', async () => {
     await openBundled('bias-48v');
     const failed: string[] = [];

@@ -1,7 +1,9 @@
-// Runs of /api/simulate: an explicit run (button, Enter), a live one a short pause after a valid
-// edit, and a zoomed re-run of the last scenario. A newer request cancels the older one (its fetch
-// is aborted, so the server stops its work) and an answer that is not the newest is dropped, so
-// the plots never go back to an older state of the form.
+// Runs of /api/simulate: an explicit run (button, Enter), a live one after a valid edit, and a
+// zoomed re-run of the last scenario. A newer request cancels the older one (its fetch is aborted,
+// so the server stops its work at its next cycle) and an answer that is not the newest is dropped,
+// so the plots never go back to an older state of the form. A live run is sent at the keystroke and
+// its answer shown once the form has been still for LIVE_PAUSE_MS: the plots change only after a
+// pause, as before, but the server works during the pause instead of after it.
 
 import { $, button } from './dom.js';
 import { issuesOf, failureLine, postJson, Unreachable, type RawScenario, type SimulateAnswer } from './api.js';
@@ -13,7 +15,7 @@ import { drawResults, drawDrain } from './results.js';
 import { syncViewButtons } from './drain-plot.js';
 import { hooks, state, type TimeWindow } from './state.js';
 
-/** The pause after the last keystroke before an edit re-simulates by itself, ms. */
+/** The pause after the last keystroke before an edit's answer is shown, ms. */
 export const LIVE_PAUSE_MS = 300;
 /**
  * The busy counter shows once a run has taken this long: a quick re-plot needs none, and its
@@ -42,8 +44,10 @@ export interface RunOptions {
   window?: TimeWindow;
   /** Send this scenario instead of the form's (an opened file as it is, so the server sees every key). */
   scenario?: RawScenario;
-  /** Started by a pause after typing: problems are marked but the focus stays where it is. */
+  /** Started by typing: problems are marked but the focus stays where it is. */
   live?: boolean;
+  /** performance.now() before which the answer is held (the end of the live pause). */
+  showAfter?: number;
 }
 
 /**
@@ -80,12 +84,13 @@ export function cancelRuns(): void {
   run.abort = null;
   run.sequence += 1;
   setBusy(false, 0);
+  if (document.body.dataset.state === 'busy') document.body.dataset.state = 'idle';
 }
 
-/** One request; see RunOptions. */
-export async function simulate(options: RunOptions = {}): Promise<void> {
+/** One request; see RunOptions. True when its answer was the newest and was shown. */
+export async function simulate(options: RunOptions = {}): Promise<boolean> {
   const { window: window_, live = false } = options;
-  if (window_ && !state.last) return;
+  if (window_ && !state.last) return false;
   window.clearTimeout(run.liveTimer);
   const scenario = options.scenario ?? (window_ && state.last ? state.last.scenario : readForm());
   // An edit of the design shown (or its zoom) starts each variant from the orbit of the last
@@ -98,12 +103,19 @@ export async function simulate(options: RunOptions = {}): Promise<void> {
   const mine = ++run.sequence;
   const startedAt = performance.now();
   setBusy(true, startedAt);
-  if (!window_) { clearFieldErrors(); showGeneral([]); }
+  // A live run's problems are cleared when its answer is shown: the form is still being typed.
+  if (!window_ && !live) { clearFieldErrors(); showGeneral([]); }
   let outcome = 'failed';
   try {
     const answer = await postJson<SimulateAnswer>('/api/simulate', body, abort.signal);
-    if (mine !== run.sequence) return;
+    if (mine !== run.sequence) return false;
     const seconds = ((performance.now() - startedAt) / 1000).toFixed(2);
+    const held = (options.showAfter ?? 0) - performance.now();
+    if (held > 0) {
+      await new Promise((ok) => window.setTimeout(ok, held));
+      if (mine !== run.sequence) return false;
+    }
+    if (live) { clearFieldErrors(); showGeneral([]); run.waiting = ''; }
     const issues = issuesOf(answer);
     if (answer.ok?.ok) {
       outcome = 'ok';
@@ -128,12 +140,14 @@ export async function simulate(options: RunOptions = {}): Promise<void> {
       setStatus(`Failed after ${seconds} s.`);
     }
     if (outcome !== 'ok' && state.last) setResultsStale(true);
+    return true;
   } catch (error) {
-    if (abort.signal.aborted || mine !== run.sequence) return;
+    if (abort.signal.aborted || mine !== run.sequence) return false;
     showGeneral([error instanceof Unreachable ? error.message : `the page failed: ${(error as Error).message}`]);
     if (!(error instanceof Unreachable)) console.error(error);
     setStatus('Failed.');
     if (state.last) setResultsStale(true);
+    return true;
   } finally {
     if (mine === run.sequence) {
       run.abort = null;
@@ -171,24 +185,27 @@ function afterIdle(work: () => void): void {
 }
 
 /**
- * The form changed: after a pause of LIVE_PAUSE_MS without another change, the form re-simulates
- * when every field reads as a number, and `afterPause` runs (the link follows the form): once the
- * run is answered and drawn, so that its work delays neither the request nor the plots.
+ * The form changed. When every field reads as a number the form is sent at once and its answer
+ * shown LIVE_PAUSE_MS after this change, unless another change comes first (which sends anew and
+ * drops this one): the server's time overlaps the pause (bias-48v: its 0.2–0.4 s answer used to
+ * start only after it). `afterPause` runs (the link follows the form) once an answer is shown, or
+ * after the pause when a field does not read yet, so that its work delays neither the request nor
+ * the plots.
  */
 export function scheduleLiveRun(afterPause: () => void): void {
   window.clearTimeout(run.liveTimer);
   run.editedSinceRun = true;
-  run.liveTimer = window.setTimeout(() => {
-    const unreadable = unreadableField();
-    if (unreadable) {
+  const unreadable = unreadableField();
+  if (unreadable) {
+    // The run in flight is for an older state of the form: it must not be shown now.
+    if (run.abort) cancelRuns();
+    run.liveTimer = window.setTimeout(() => {
       afterPause();
       run.waiting = `Not re-simulated: “${unreadable}” does not read as a number yet.`;
       renderStatus();
-      return;
-    }
-    run.waiting = '';
-    void simulate({ live: true }).finally(() => afterIdle(afterPause));
-  }, LIVE_PAUSE_MS);
-  if (state.last && !run.waiting) { run.waiting = 'The form changed: re-simulating after a short pause.'; renderStatus(); }
+    }, LIVE_PAUSE_MS);
+    return;
+  }
+  if (state.last) { run.waiting = 'The form changed: re-simulating.'; renderStatus(); }
+  void simulate({ live: true, showAfter: performance.now() + LIVE_PAUSE_MS }).then((shown) => { if (shown) afterIdle(afterPause); });
 }
-
